@@ -1,0 +1,14 @@
+// PATCH: record when supplemental oxygen stopped.
+import { apiRoute, parseJson } from "@/lib/api";
+import { db } from "@/db/knex";
+import { stopOxygen } from "@/db/episodes";
+import { oxygenStop } from "@/lib/validation/episodes";
+import { uuid } from "@/lib/validation/common";
+
+export const PATCH = apiRoute<{ id: string; periodId: string }>("episode.write", async ({ req, user, params }) => {
+  const id = uuid.parse(params.id);
+  const periodId = uuid.parse(params.periodId);
+  const { endedAt } = await parseJson(req, oxygenStop);
+  const period = await db().transaction((trx) => stopOxygen(trx, user, id, periodId, endedAt));
+  return { period };
+});

@@ -75,7 +75,9 @@ export async function listPatients(
     .modify((q) => {
       if (opts.q) {
         const like = `%${opts.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
-        q.where((w) => w.whereILike("p.family_name", like).orWhereILike("p.given_name", like).orWhereILike("p.hospital_number", like));
+        q.where((w) => {
+          void w.whereILike("p.family_name", like).orWhereILike("p.given_name", like).orWhereILike("p.hospital_number", like);
+        });
       }
     });
   const [{ count } = { count: 0 }] = await base.clone().count<{ count: number }[]>({ count: "*" });

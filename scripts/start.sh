@@ -12,7 +12,7 @@ services_up dev
 rw_migrate
 node --conditions=react-server --import tsx db/demo/load.ts
 
-export PORT="${PORT:-3000}"
+export PORT="${PORT:-3000}" RIMWATCH_DEMO="${RIMWATCH_DEMO:-1}"
 export NEXTAUTH_URL="${NEXTAUTH_URL:-http://127.0.0.1:$PORT}"
 if [ -z "${NEXTAUTH_SECRET:-}" ]; then
   [ -f .data/dev/auth-secret ] || node -e 'console.log(require("crypto").randomBytes(32).toString("base64url"))' > .data/dev/auth-secret

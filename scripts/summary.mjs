@@ -1,7 +1,7 @@
 // Reads the vitest and Playwright JSON reports and prints one line per suite, then "N passed, N failed".
 import { readFileSync, existsSync } from "node:fs";
 
-const [vitestPath, playwrightPath] = process.argv.slice(2);
+const [vitestPath, playwrightPath, staticPath] = process.argv.slice(2);
 let passed = 0, failed = 0, skipped = 0;
 const lines = [];
 
@@ -36,6 +36,12 @@ if (playwrightPath && existsSync(playwrightPath)) {
 } else {
   lines.push("browser: no report (Playwright did not run)");
   failed++;
+}
+
+if (staticPath && existsSync(staticPath)) {
+  const st = JSON.parse(readFileSync(staticPath, "utf8"));
+  lines.push(`static checks (tsc, eslint): ${st.passed} passed, ${st.failed} failed`);
+  passed += st.passed; failed += st.failed;
 }
 
 console.log("");

@@ -4,6 +4,7 @@ import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { Button } from "@/components/ui/button";
 import { Field, TextInput } from "@/components/ui/field";
+import { formText } from "@/lib/client/form";
 
 export function SignInForm() {
   const router = useRouter();
@@ -15,7 +16,7 @@ export function SignInForm() {
     const form = new FormData(e.currentTarget);
     setBusy(true);
     setError(null);
-    const res = await signIn("credentials", { email: String(form.get("email") ?? ""), password: String(form.get("password") ?? ""), redirect: false });
+    const res = await signIn("credentials", { email: formText(form, "email"), password: formText(form, "password"), redirect: false });
     setBusy(false);
     if (!res || res.error) {
       setError(res?.error && res.error !== "CredentialsSignin" ? res.error : "That e-mail and password do not match an active account.");

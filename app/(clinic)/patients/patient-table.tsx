@@ -107,7 +107,7 @@ export function PatientTable() {
           </tbody>
         </table>
       </div>
-      {query.isError ? <p role="alert" className="font-bold text-rust-ink">{(query.error as Error).message}</p> : null}
+      {query.isError ? <p role="alert" className="font-bold text-rust-ink">{query.error.message}</p> : null}
       <div className="flex items-center gap-3 text-sm" aria-live="polite">
         <Button tone="quiet" disabled={page <= 1} onClick={() => setPage((p) => p - 1)}>Previous</Button>
         <span>Page {page} of {pages} · {total} patients</span>

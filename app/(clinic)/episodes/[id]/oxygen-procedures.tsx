@@ -2,6 +2,7 @@
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { fetchJson, ApiError } from "@/lib/client/api";
+import { formText } from "@/lib/client/form";
 import { formatDateTime } from "@/lib/format";
 import { Card, Empty } from "@/components/ui/card";
 import { Button } from "@/components/ui/button";
@@ -55,11 +56,11 @@ export function OxygenAndProcedures({ episodeId, canWrite, oxygen, procedures }:
           onSubmit={(e) => {
             e.preventDefault();
             const f = new FormData(e.currentTarget);
-            const at = toIso(String(f.get("at")));
+            const at = toIso(formText(f, "at"));
             void act(() =>
               running
                 ? fetchJson(`/api/episodes/${episodeId}/oxygen/${running.id}`, { method: "PATCH", json: { endedAt: at } })
-                : fetchJson(`/api/episodes/${episodeId}/oxygen`, { method: "POST", json: { startedAt: at, flowLMin: f.get("flow") ? Number(f.get("flow")) : null, device: String(f.get("device") ?? "") } }),
+                : fetchJson(`/api/episodes/${episodeId}/oxygen`, { method: "POST", json: { startedAt: at, flowLMin: f.get("flow") ? Number(f.get("flow")) : null, device: formText(f, "device") } }),
             );
           }}
         >
@@ -97,7 +98,7 @@ export function OxygenAndProcedures({ episodeId, canWrite, oxygen, procedures }:
             void act(() =>
               fetchJson(`/api/episodes/${episodeId}/procedures`, {
                 method: "POST",
-                json: { kind: f.get("kind"), performedAt: toIso(String(f.get("at"))), volumeMl: f.get("volume") ? Number(f.get("volume")) : null, notes: String(f.get("notes") ?? "") },
+                json: { kind: f.get("kind"), performedAt: toIso(formText(f, "at")), volumeMl: f.get("volume") ? Number(f.get("volume")) : null, notes: formText(f, "notes") },
               }),
             );
           }}

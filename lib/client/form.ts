@@ -1,0 +1,5 @@
+// Reads a text field of a submitted form as a string ("" when absent or a file).
+export function formText(form: FormData, name: string): string {
+  const v = form.get(name);
+  return typeof v === "string" ? v : "";
+}

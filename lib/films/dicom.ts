@@ -241,6 +241,8 @@ function us(ds: DataSet, tag: string): number | null {
 function ds1(ds: DataSet, tag: string, name: string, warnings: string[], index = 0): number | null {
   const el = ds.elements[tag];
   if (!el || el.length === 0) return null;
+  // dicom-parser throws on an index past the last value: count first.
+  if ((ds.numStringValues(tag) ?? 0) <= index) return null;
   const raw = ds.string(tag, index)?.trim();
   if (raw === undefined || raw === '') return null;
   const v = Number(raw);
@@ -467,9 +469,19 @@ function readHeader(parsed: Parsed): DicomHeader {
   };
 }
 
+/** Whatever a parser throws on hostile input becomes a BadFilmError; FilmErrors pass through. */
+function asFilmError(e: unknown): FilmError {
+  if (e instanceof FilmError) return e;
+  return new BadFilmError('The DICOM file could not be read (malformed attribute values).', { cause: e });
+}
+
 /** Reads the attributes of a DICOM Part 10 file without decoding its pixels. Synchronous. */
 export function readDicomHeader(bytes: Uint8Array): DicomHeader {
-  return readHeader(parse(bytes));
+  try {
+    return readHeader(parse(bytes));
+  } catch (e) {
+    throw asFilmError(e);
+  }
 }
 
 /**
@@ -478,10 +490,14 @@ export function readDicomHeader(bytes: Uint8Array): DicomHeader {
  * decode) or `BadFilmError` (malformed, truncated, inconsistent); never anything else for bad input.
  */
 export async function readDicom(bytes: Uint8Array): Promise<DicomFilm> {
-  const parsed = parse(bytes);
-  const header = readHeader(parsed);
-  const pixels = await decodePixels(parsed, header.meta);
-  return { ...header, pixels };
+  try {
+    const parsed = parse(bytes);
+    const header = readHeader(parsed);
+    const pixels = await decodePixels(parsed, header.meta);
+    return { ...header, pixels };
+  } catch (e) {
+    throw asFilmError(e);
+  }
 }
 
 // ---------------------------------------------------------------------------------------------------
@@ -648,6 +664,17 @@ function packRgb(data: Uint8Array, n: number, channels: number): Uint8Array {
   return out;
 }
 
+/**
+ * jpeg-lossless-decoder-js 2.1.2 computes predictor 7 as (Ra + Rb) / 2 in floating point; ISO/IEC
+ * 10918-1 H.1.2.1 (Table H.1) means the integer quotient, as IJG (and so dcmtk) computes it with a
+ * right shift. Found by comparing with dcmtk (tests/unit/films-dicom.test.ts, predictor 7).
+ */
+class LosslessDecoder extends JpegLosslessDecoder {
+  override select7(compOffset?: number): number {
+    return (this.getPreviousX(compOffset) + this.getPreviousY(compOffset)) >> 1;
+  }
+}
+
 function jpegLosslessFrame(frame: Uint8Array, meta: DicomMeta): DecodedPixels {
   const sof = readJpegFrameHeader(frame);
   if (!sof) throw new BadFilmError('The encapsulated frame is not a JPEG stream.');
@@ -663,7 +690,7 @@ function jpegLosslessFrame(frame: Uint8Array, meta: DicomMeta): DecodedPixels {
   const n = meta.rows * meta.columns;
   let out: Uint8Array | Uint16Array;
   try {
-    const decoder = new JpegLosslessDecoder();
+    const decoder = new LosslessDecoder();
     out = decoder.decode(frame.buffer as ArrayBuffer, frame.byteOffset, frame.byteLength, meta.bitsAllocated / 8);
   } catch (e) {
     throw new BadFilmError('The JPEG lossless frame could not be decoded.', { cause: e });

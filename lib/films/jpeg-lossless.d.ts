@@ -18,5 +18,10 @@ declare module 'jpeg-lossless-decoder-js' {
      */
     decode(buffer?: ArrayBuffer, offset?: number, length?: number, numBytes?: number): Uint8Array | Uint16Array;
     decompress(buffer: ArrayBuffer, offset: number, length: number): ArrayBuffer;
+    /** Neighbours of the current sample (Ra, Rb) during decoding. */
+    getPreviousX(compOffset?: number): number;
+    getPreviousY(compOffset?: number): number;
+    /** Predictor 7 (ISO/IEC 10918-1 Table H.1), picked by decode() for selection value 7. */
+    select7(compOffset?: number): number;
   }
 }

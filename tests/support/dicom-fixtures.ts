@@ -235,6 +235,23 @@ export function dcmdumpValue(file: string, tag: string): string | null {
   return value.startsWith('[') && value.endsWith(']') ? value.slice(1, -1) : value;
 }
 
+/**
+ * dcmtk's reading of every top-level attribute in one `dcmdump` run: tag ("gggg,eeee", lower case) ->
+ * value as `dcmdumpValue` gives it. Sequence contents are not included.
+ */
+export function dcmdumpAll(file: string): Map<string, string | null> {
+  const out = run('dcmdump', ['-q', '-Un', '-M', '+L', file]); // -M: leave pixel data unloaded
+  const values = new Map<string, string | null>();
+  for (const line of out.split('\n')) {
+    const m = /^\(([0-9a-f]{4},[0-9a-f]{4})\)\s+([A-Z]{2})\s+(.*?)\s+#\s*(\d+),/i.exec(line);
+    if (!m?.[1]) continue;
+    const value = (m[3] ?? '').trim();
+    const empty = value === '(no value available)' || Number(m[4]) === 0 || m[2] === 'SQ';
+    values.set(m[1].toLowerCase(), empty ? null : value.startsWith('[') && value.endsWith(']') ? value.slice(1, -1) : value);
+  }
+  return values;
+}
+
 /** Parses an ASCII (P2) or binary (P5) PGM as written by dcmj2pnm. */
 export function readPgm(bytes: Buffer): { width: number; height: number; maxval: number; values: number[] } {
   const magic = bytes.subarray(0, 2).toString('latin1');

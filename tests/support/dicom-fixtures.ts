@@ -52,6 +52,8 @@ export interface DicomFixtureSpec {
   photometric?: 'MONOCHROME1' | 'MONOCHROME2';
   /** Extra dump lines by tag, e.g. { '(0028,0030)': 'DS [0.139\\0.140]' }. Override the defaults. */
   attributes?: Record<string, string>;
+  /** Raw dump2dcm lines added as they are (sequences, see `voiLutSequenceDump`). */
+  dumpLines?: string[];
   syntax?: FixtureSyntax;
   /** For 'jpeg-lossless': the predictor (selection value 1..7). */
   selectionValue?: number;
@@ -149,6 +151,7 @@ export function writeDicom(dir: string, name: string, spec: DicomFixtureSpec): s
   const dump = Object.entries(lines)
     .sort(([a], [b]) => a.toLowerCase().localeCompare(b.toLowerCase()))
     .map(([tag, value]) => `${tag} ${value}`);
+  dump.push(...(spec.dumpLines ?? []));
   dump.push(`(7fe0,0010) ${ba === 16 ? 'OW' : 'OB'} =${raw}`);
   const dumpFile = join(dir, `${name}.dump`);
   writeFileSync(dumpFile, `${dump.join('\n')}\n`);
@@ -188,6 +191,22 @@ export function writeDicom(dir: string, name: string, spec: DicomFixtureSpec): s
       break;
   }
   return out;
+}
+
+/**
+ * dump2dcm lines for a VOI LUT Sequence (0028,3010) with one item (PS3.3 C.11.2): LUT Descriptor
+ * [entries, first mapped value, bits per entry] and LUT Data.
+ */
+export function voiLutSequenceDump(firstMapped: number, bits: number, data: readonly number[], explanation = 'invented curve'): string[] {
+  return [
+    '(0028,3010) SQ (Sequence with undefined length #=1)',
+    '  (fffe,e000) na (Item with undefined length #=3)',
+    `    (0028,3002) US ${data.length === 65536 ? 0 : data.length}\\${firstMapped}\\${bits}`,
+    `    (0028,3003) LO [${explanation}]`,
+    `    (0028,3006) US ${data.join('\\')}`,
+    '  (fffe,e00d) na (ItemDelimitationItem)',
+    '(fffe,e0dd) na (SequenceDelimitationItem)',
+  ];
 }
 
 /**

@@ -97,7 +97,8 @@ function sharpInput(bytes: Uint8Array): Sharp {
 export async function readImage(bytes: Uint8Array): Promise<{ meta: ImageMeta; grey: Grey8 }> {
   let md: Metadata;
   try {
-    md = await sharpInput(bytes).metadata();
+    // Only the header is read here (no pixel limit needed), so an oversized image gets a plain message below.
+    md = await sharp(bytes, { failOn: 'error', limitInputPixels: false }).metadata();
   } catch (e) {
     throw new BadFilmError('The image could not be read (corrupt or not an image).', { cause: e });
   }

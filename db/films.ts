@@ -2,11 +2,11 @@
 // (original, display image, thumbnail) live in the object store under the keys the row names.
 import "server-only";
 import type { Knex } from "knex";
-import type { FilmCalibration } from "@/measure";
+import { calibrationFromReferenceLine, MeasureInputError, segmentLengthPx, type FilmCalibration } from "@/measure";
 import type { DicomMeta, FilmSpacingAttrs, Rendering } from "@/lib/films";
 import { AppError, notFound } from "@/lib/errors";
 import { effectiveCalibration, type CalibrationOverride, type FilmView, type TakenAtSource } from "@/lib/film-view";
-import type { FilmUpdate } from "@/lib/validation/films";
+import type { FilmUpdate, ReferenceLineInput } from "@/lib/validation/films";
 import { writeAudit } from "./audit";
 import type { Trx } from "./knex";
 import type { Actor } from "./types";
@@ -71,7 +71,7 @@ function recordQuery(trx: Trx) {
     .leftJoin("users as u", "u.id", "f.uploaded_by")
     .leftJoin("users as d", "d.id", "f.deleted_by")
     .select(
-      FILM_COLUMNS.map((c) => `f.${c}`),
+      ...FILM_COLUMNS.map((c) => `f.${c}`),
       "u.name as uploader_name",
       "d.name as deleted_by_name",
       trx.raw("(select count(*) from measurements m where m.film_id = f.id)::int as measurement_count"),
@@ -87,7 +87,7 @@ export async function getFilm(trx: Trx, teamId: string, id: string): Promise<Fil
 
 /** An episode's films in the order they were taken (undated last). Withdrawn films only when asked. */
 export async function listEpisodeFilms(trx: Trx, teamId: string, episodeId: string, opts: { includeWithdrawn?: boolean } = {}): Promise<FilmRecord[]> {
-  const rows = await recordQuery(trx)
+  const rows: unknown[] = await recordQuery(trx)
     .where({ "f.episode_id": episodeId, "f.team_id": teamId })
     .modify((q) => {
       if (!opts.includeWithdrawn) q.whereNull("f.deleted_at");
@@ -133,7 +133,7 @@ const json = (v: unknown) => (v === null || v === undefined ? null : JSON.string
 export async function insertFilm(trx: Knex.Transaction, actor: Actor, film: NewFilm): Promise<FilmRow> {
   let row: FilmRow | undefined;
   try {
-    [row] = (await trx("films")
+    const inserted: unknown[] = await trx("films")
       .insert({
         id: film.id,
         episode_id: film.episodeId,
@@ -160,7 +160,8 @@ export async function insertFilm(trx: Knex.Transaction, actor: Actor, film: NewF
         dicom: json(film.dicom),
         uploaded_by: actor.id,
       })
-      .returning(FILM_COLUMNS)) as FilmRow[];
+      .returning(FILM_COLUMNS);
+    row = inserted[0] as FilmRow | undefined;
   } catch (err) {
     // The partial unique index on (episode_id, sha256) for live films: another upload of the same bytes won the race.
     if ((err as { code?: string; constraint?: string }).code === "23505") {
@@ -216,7 +217,8 @@ export async function updateFilmDetails(trx: Knex.Transaction, actor: Actor, id:
   }
   if (input.projection !== undefined) patch.projection = input.projection;
   if (input.position !== undefined) patch.position = input.position;
-  const [after] = (await trx("films").where({ id, team_id: actor.teamId }).update(patch).returning(FILM_COLUMNS)) as FilmRow[];
+  const updated: unknown[] = await trx("films").where({ id, team_id: actor.teamId }).update(patch).returning(FILM_COLUMNS);
+  const after = updated[0] as FilmRow | undefined;
   if (!after) throw notFound("That film");
   await writeAudit(trx, {
     actorId: actor.id,
@@ -263,6 +265,32 @@ export async function setCalibrationOverride(trx: Knex.Transaction, actor: Actor
     after: { calibration_override: override },
   });
   return getFilm(trx, actor.teamId, id);
+}
+
+/** Shortest reference line accepted, original film pixels: one pixel of error is then at most 5 %. */
+export const MIN_REFERENCE_LINE_PX = 20;
+
+/** POST calibration: a line of known length drawn on the film (original pixels) becomes its calibration. */
+export async function calibrateByReferenceLine(trx: Knex.Transaction, actor: Actor, id: string, input: ReferenceLineInput, now: Date): Promise<FilmRecord> {
+  const film = await liveFilmForChange(trx, actor.teamId, id);
+  const { a, b } = input.segment;
+  const fields: Record<string, string> = {};
+  for (const [name, p] of [["segment.a", a], ["segment.b", b]] as const) {
+    if (p.x > film.columns || p.y > film.rows) fields[name] = `Outside the film (${film.columns} x ${film.rows} pixels)`;
+  }
+  if (Object.keys(fields).length === 0 && segmentLengthPx(input.segment) < MIN_REFERENCE_LINE_PX) {
+    fields.segment = `Too short to calibrate from (under ${MIN_REFERENCE_LINE_PX} pixels): draw the line along the whole marker or ruler`;
+  }
+  if (Object.keys(fields).length > 0) throw new AppError("invalid", "The reference line cannot be used.", { fields });
+  let calibration: FilmCalibration;
+  try {
+    calibration = calibrationFromReferenceLine(input.segment, input.knownLengthMm, input.plane);
+  } catch (err) {
+    if (err instanceof MeasureInputError) throw new AppError("invalid", err.message, { fields: { [err.field === "knownLengthMm" ? "knownLengthMm" : "segment"]: err.message } });
+    throw err;
+  }
+  const override: CalibrationOverride = { segment: input.segment, knownLengthMm: input.knownLengthMm, plane: input.plane, calibration, setBy: actor.id, setAt: now.toISOString() };
+  return setCalibrationOverride(trx, actor, id, override);
 }
 
 /** Of these film ids, the ones that have a row (live or withdrawn). For the orphan-object sweep, across teams. */

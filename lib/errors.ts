@@ -1,11 +1,13 @@
 // One error type for the whole server, and one place that turns any error into an HTTP answer.
 import { ZodError } from "zod";
+import { FilmError, UnsupportedFilmError } from "./films/errors";
 
 export type ErrorCode =
   | "unauthenticated"
   | "forbidden"
   | "not_found"
   | "invalid"
+  | "unprocessable"
   | "conflict"
   | "too_large"
   | "unsupported"
@@ -17,6 +19,7 @@ const STATUS: Record<ErrorCode, number> = {
   forbidden: 403,
   not_found: 404,
   invalid: 400,
+  unprocessable: 422,
   conflict: 409,
   too_large: 413,
   unsupported: 415,
@@ -78,6 +81,11 @@ export function toErrorBody(err: unknown): { status: number; body: ErrorBody } {
       status: err.status,
       body: { error: { code: err.code, message: err.message, ...(err.fields ? { fields: err.fields } : {}), ...(err.details ? { details: err.details } : {}) } },
     };
+  }
+  if (err instanceof FilmError) {
+    // The film pipeline's typed refusals: a file Rimwatch cannot read (415) or a broken one (422).
+    const details = err instanceof UnsupportedFilmError && err.transferSyntaxUid ? { transferSyntaxUid: err.transferSyntaxUid } : undefined;
+    return { status: err.status, body: { error: { code: err.status === 415 ? "unsupported" : "unprocessable", message: err.message, ...(details ? { details } : {}) } } };
   }
   if (err instanceof ZodError) {
     return { status: 400, body: { error: { code: "invalid", message: "Some fields need correcting.", fields: fieldMessages(err) } } };

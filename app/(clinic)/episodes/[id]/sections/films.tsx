@@ -1,6 +1,23 @@
+import { can } from "@/lib/auth/permissions";
+import { db } from "@/db/knex";
+import { listEpisodeFilms, toFilmView } from "@/db/films";
+import { filmMaxBytes } from "@/lib/films/store-film";
+import { FilmsPanel } from "@/components/films/films-panel";
 import type { SectionProps } from "./types";
 
-// Placeholder until this part of the episode page is built.
-export async function FilmsSection(_props: SectionProps) {
-  return null;
+/** The episode's films: upload, thumbnails in the order taken, calibration in plain words, withdraw. */
+export async function FilmsSection({ episode, user }: SectionProps) {
+  if (!can(user.role, "film.read")) return null;
+  const films = (await listEpisodeFilms(db(), user.teamId, episode.id, { includeWithdrawn: true })).map(toFilmView);
+  return (
+    <FilmsPanel
+      episodeId={episode.id}
+      presentedOn={episode.presented_on}
+      films={films.filter((f) => !f.withdrawn)}
+      withdrawn={films.filter((f) => f.withdrawn)}
+      canUpload={can(user.role, "film.upload")}
+      canWithdraw={can(user.role, "film.delete")}
+      maxBytes={filmMaxBytes()}
+    />
+  );
 }

@@ -212,12 +212,28 @@ function parse(bytes: Uint8Array): Parsed {
       inflater,
       vrCallback: (tag: string) => (SEQUENCE_TAGS.has(tag) ? 'SQ' : undefined),
     });
+    if (transferSyntaxUid !== IMPLICIT_VR_LITTLE_ENDIAN) checkExplicitVrs(dataSet);
     return { dataSet, transferSyntaxUid, encoding };
   } catch (e) {
     if (e instanceof FilmError) throw e;
-    const inner = e !== null && typeof e === 'object' && 'exception' in e ? (e as { exception: unknown }).exception : e;
+    const inner = e !== null && typeof e === 'object' && 'exception' in e ? e.exception : e;
     if (inner instanceof FilmError) throw inner;
     throw new BadFilmError('The DICOM data set is malformed or truncated.', { cause: new Error(describeThrown(e)) });
+  }
+}
+
+const IMPLICIT_VR_LITTLE_ENDIAN = '1.2.840.10008.1.2';
+// PS3.5 6.2: the value representations. In an explicit VR data set every element names one of them;
+// anything else means the parser lost its place (a lying length), and what follows cannot be trusted.
+const VALUE_REPRESENTATIONS = new Set(
+  'AE AS AT CS DA DS DT FD FL IS LO LT OB OD OF OL OV OW PN SH SL SQ SS ST SV TM UC UI UL UN UR US UT UV'.split(' '),
+);
+
+function checkExplicitVrs(ds: DataSet): void {
+  for (const [tag, el] of Object.entries(ds.elements)) {
+    if (el.vr !== undefined && !VALUE_REPRESENTATIONS.has(el.vr)) {
+      throw new BadFilmError(`The DICOM data set is corrupt near (${tag.slice(1, 5)},${tag.slice(5)}): an element has no valid value representation.`);
+    }
   }
 }
 
@@ -588,6 +604,14 @@ function nativeFrame(ds: DataSet, el: Element, meta: DicomMeta): DecodedPixels {
   if (available < frameBytes) {
     throw new BadFilmError(
       `Pixel Data holds ${Math.max(available, 0)} bytes; Rows x Columns x samples x bytes needs ${frameBytes} (the file is truncated or inconsistent).`,
+    );
+  }
+  // PS3.5 8.1.1: native Pixel Data is exactly the frames' cells, padded to an even length. More than
+  // that means Rows, Columns, Bits Allocated or Number of Frames do not describe these pixels.
+  const allFrames = frameBytes * meta.numberOfFrames;
+  if (el.length > allFrames + (allFrames % 2)) {
+    throw new BadFilmError(
+      `Pixel Data holds ${el.length} bytes, more than the ${allFrames} that Rows x Columns x samples x bytes x frames describe: the header does not match the pixels.`,
     );
   }
   const bytes = ds.byteArray.subarray(el.dataOffset, el.dataOffset + frameBytes);

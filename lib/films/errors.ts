@@ -39,7 +39,7 @@ export function describeThrown(thrown: unknown): string {
   if (thrown instanceof Error) return thrown.message;
   if (typeof thrown === 'string') return thrown;
   if (thrown !== null && typeof thrown === 'object' && 'exception' in thrown) {
-    return describeThrown((thrown as { exception: unknown }).exception);
+    return describeThrown(thrown.exception);
   }
   return String(thrown);
 }

@@ -138,7 +138,6 @@ export function buildDisplayLut(
   const fn = meta.voiLutFunction === 'LINEAR_EXACT' || meta.voiLutFunction === 'SIGMOID' ? meta.voiLutFunction : 'LINEAR';
   const c = meta.windowCenter;
   const w = meta.windowWidth;
-  const windowUsable = c !== null && w !== null && (fn === 'LINEAR' ? w >= 1 : w > 0);
 
   if (p.fromColour) {
     voi = (x) => x;
@@ -153,9 +152,10 @@ export function buildDisplayLut(
       return (table[i]! / top) * Y_MAX;
     };
     rendering = { method: 'voi-lut', voiLutFunction: null, center: null, width: null, rescaleSlope: slope, rescaleIntercept: intercept, inverted };
-  } else if (windowUsable) {
-    const cc = c as number;
-    const ww = w as number;
+  } else if (c !== null && w !== null && (fn === 'LINEAR' ? w >= 1 : w > 0)) {
+    // PS3.3 C.11.2.1.2: Window Width >= 1 for LINEAR, > 0 for LINEAR_EXACT and SIGMOID.
+    const cc = c;
+    const ww = w;
     voi = fn === 'LINEAR' ? (x) => windowLinear(x, cc, ww) : fn === 'LINEAR_EXACT' ? (x) => windowLinearExact(x, cc, ww) : (x) => windowSigmoid(x, cc, ww);
     rendering = { method: 'window', voiLutFunction: fn, center: cc, width: ww, rescaleSlope: slope, rescaleIntercept: intercept, inverted };
   } else {

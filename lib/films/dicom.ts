@@ -214,7 +214,7 @@ function parse(bytes: Uint8Array): Parsed {
       inflater,
       vrCallback: (tag: string) => (SEQUENCE_TAGS.has(tag) ? 'SQ' : undefined),
     });
-    if (transferSyntaxUid !== IMPLICIT_VR_LITTLE_ENDIAN && transferSyntaxUid !== DEFLATED_EXPLICIT_VR) checkExplicitVrs(dataSet);
+    if (transferSyntaxUid !== IMPLICIT_VR_LITTLE_ENDIAN) checkExplicitVrs(dataSet);
     return { dataSet, transferSyntaxUid, encoding };
   } catch (e) {
     if (e instanceof FilmError) throw e;
@@ -225,8 +225,6 @@ function parse(bytes: Uint8Array): Parsed {
 }
 
 const IMPLICIT_VR_LITTLE_ENDIAN = '1.2.840.10008.1.2';
-// dicom-parser lists a few empty pseudo-elements from the file prefix when it inflates, so deflated films are not checked.
-const DEFLATED_EXPLICIT_VR = '1.2.840.10008.1.2.1.99';
 // PS3.5 6.2: the value representations. In an explicit VR data set every element names one of them;
 // anything else means the parser lost its place (a lying length), and what follows cannot be trusted.
 const VALUE_REPRESENTATIONS = new Set(

@@ -1,0 +1,23 @@
+import type { Metadata } from "next";
+import { requireUser } from "@/lib/auth/session";
+import { can } from "@/lib/auth/permissions";
+import { db } from "@/db/knex";
+import { listSettingGroups } from "@/lib/settings-registry";
+import { PageTitle } from "@/components/ui/card";
+import { SettingsClient } from "./settings-client";
+
+export const metadata: Metadata = { title: "Settings" };
+
+export default async function SettingsPage() {
+  const user = await requireUser("settings.read");
+  const groups = await listSettingGroups(db());
+  return (
+    <>
+      <PageTitle
+        title="Rule and protocol settings"
+        subtitle="Each value shows its default and where the default comes from. Values marked “suggestion” have no published figure: set them by local agreement."
+      />
+      <SettingsClient groups={groups} canWrite={can(user.role, "settings.write")} />
+    </>
+  );
+}

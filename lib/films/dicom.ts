@@ -133,6 +133,7 @@ export interface DicomHeader {
 
 /**
  * Pixels of the first frame, as stored (before any modality or VOI transformation), row by row.
+ * For native transfer syntaxes `data` may be a view on the bytes given to readDicom (not a copy).
  * For 16-bit data the array holds the whole 16-bit words; `storedValue` in pixels.ts extracts the
  * Bits Stored field and applies the Pixel Representation.
  */
@@ -619,7 +620,11 @@ function nativeFrame(ds: DataSet, el: Element, meta: DicomMeta): DecodedPixels {
   const bytes = ds.byteArray.subarray(el.dataOffset, el.dataOffset + frameBytes);
   const { colour } = checkPixelFormat(meta);
   if (colour) return monochromeFromColour(meta, bytes, meta.planarConfiguration === 1, false);
-  if (bytesPerSample === 1) return greyPixels(meta, Uint8Array.from(bytes), photometricOf(meta));
+  // Views share memory with the input (no copy of a 15 MB frame); copies only when unaligned.
+  if (bytesPerSample === 1) return greyPixels(meta, bytes, photometricOf(meta));
+  if (LITTLE_ENDIAN_HOST && bytes.byteOffset % 2 === 0) {
+    return greyPixels(meta, new Uint16Array(bytes.buffer, bytes.byteOffset, frameBytes / 2), photometricOf(meta));
+  }
   const words = new Uint16Array(frameBytes / 2);
   if (LITTLE_ENDIAN_HOST) {
     new Uint8Array(words.buffer).set(bytes);

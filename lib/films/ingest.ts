@@ -75,13 +75,16 @@ async function previews(grey: Grey8): Promise<{ display: DisplayImage; thumbnail
  */
 export async function ingestFilm(bytes: Buffer, filename: string, contentType: string): Promise<IngestedFilm> {
   if (bytes.length === 0) throw new BadFilmError('The file is empty.');
-  const sha256 = createHash('sha256').update(bytes).digest('hex');
   const kind = filmKindOf(bytes, filename, contentType);
+  const hash = () => createHash('sha256').update(bytes).digest('hex');
 
   if (kind === 'dicom') {
     const film = await readDicom(bytes);
     const { grey, rendering } = toGrey8(film.pixels, film.meta, film.voiLut);
-    const { display, thumbnail } = await previews(grey);
+    // sharp encodes on its own thread: hash the upload on this one meanwhile.
+    const encoding = previews(grey);
+    const sha256 = hash();
+    const { display, thumbnail } = await encoding;
     return {
       kind: 'dicom',
       meta: film.meta,
@@ -100,7 +103,9 @@ export async function ingestFilm(bytes: Buffer, filename: string, contentType: s
   }
 
   const { meta, grey } = await readImage(bytes);
-  const { display, thumbnail } = await previews(grey);
+  const encoding = previews(grey);
+  const sha256 = hash();
+  const { display, thumbnail } = await encoding;
   return {
     kind: 'image',
     meta,

@@ -110,7 +110,7 @@ async function sharpFloor(pixels: Uint16Array, withThumbnail: boolean): Promise<
   return d.length;
 }
 
-async function time(fn: () => Promise<unknown> | unknown): Promise<number> {
+async function time(fn: () => unknown): Promise<number> {
   const t0 = performance.now();
   await fn();
   return performance.now() - t0;

@@ -10,20 +10,28 @@
  * transfer syntaxes), PS3.3 (information object definitions), PS3.10 (file format).
  */
 import { inflateRawSync } from 'node:zlib';
-import {
-  createJPEGBasicOffsetTable,
-  parseDicom,
-  readEncapsulatedImageFrame,
-  readEncapsulatedPixelDataFromFragments,
-  readPart10Header,
-  type DataSet,
-  type Element,
-} from 'dicom-parser';
+import * as dicomParserModule from 'dicom-parser';
+import type { DataSet, Element } from 'dicom-parser';
 import { Decoder as JpegLosslessDecoder } from 'jpeg-lossless-decoder-js';
 import sharp, { type OutputInfo } from 'sharp';
 import { BadFilmError, describeThrown, FilmError, UnsupportedFilmError } from './errors';
 import { readJpegFrameHeader } from './jpeg';
 import { pixelEncodingOf, transferSyntaxName, type PixelEncoding } from './transfer-syntax';
+
+type DicomParserApi = typeof dicomParserModule;
+
+/**
+ * dicom-parser is a UMD bundle: bundlers and CommonJS see its named exports, Node's own ESM loader only
+ * a `default` holding them. Take whichever carries the functions, so the reader works under all three.
+ */
+function loadDicomParser(ns: unknown): DicomParserApi {
+  for (const candidate of [ns, (ns as { default?: unknown }).default]) {
+    if (candidate && typeof (candidate as { parseDicom?: unknown }).parseDicom === 'function') return candidate as DicomParserApi;
+  }
+  throw new Error('dicom-parser did not load');
+}
+const { createJPEGBasicOffsetTable, parseDicom, readEncapsulatedImageFrame, readEncapsulatedPixelDataFromFragments, readPart10Header } =
+  loadDicomParser(dicomParserModule);
 
 /** Guards against absurd or hostile headers, checked before any pixel buffer is allocated. */
 export const filmLimits = {

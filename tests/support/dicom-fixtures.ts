@@ -49,7 +49,12 @@ export interface DicomFixtureSpec {
   /** Default: bitsStored - 1. */
   highBit?: number;
   pixelRepresentation?: 0 | 1;
-  photometric?: 'MONOCHROME1' | 'MONOCHROME2';
+  photometric?: 'MONOCHROME1' | 'MONOCHROME2' | 'RGB' | 'YBR_FULL';
+  /** 3 for colour: `pixels` then holds every sample, in the order Planar Configuration says. */
+  samplesPerPixel?: 1 | 3;
+  planarConfiguration?: 0 | 1;
+  /** Number of Frames (0028,0008): `pixels` holds them one after another. */
+  frames?: number;
   /** Extra dump lines by tag, e.g. { '(0028,0030)': 'DS [0.139\\0.140]' }. Override the defaults. */
   attributes?: Record<string, string>;
   /** Raw dump2dcm lines added as they are (sequences, see `voiLutSequenceDump`). */
@@ -98,8 +103,8 @@ function pixelBytes(spec: DicomFixtureSpec): Buffer {
   const hb = spec.highBit ?? bs - 1;
   const shift = hb - bs + 1;
   const mask = 2 ** bs - 1;
-  const n = spec.rows * spec.columns;
-  if (spec.pixels.length !== n) throw new Error(`fixture needs ${n} pixels, got ${spec.pixels.length}`);
+  const n = spec.rows * spec.columns * (spec.samplesPerPixel ?? 1) * (spec.frames ?? 1);
+  if (spec.pixels.length !== n) throw new Error(`fixture needs ${n} samples, got ${spec.pixels.length}`);
   const buf = Buffer.alloc(n * (ba / 8) + ((n * (ba / 8)) % 2)); // Pixel Data has even length (PS3.5 7.1.1)
   for (let i = 0; i < n; i += 1) {
     const v = spec.pixels[i] ?? 0;
@@ -138,8 +143,10 @@ export function writeDicom(dir: string, name: string, spec: DicomFixtureSpec): s
     '(0018,0015)': 'CS [CHEST]',
     '(0020,000d)': `UI [${inventedUid(1)}]`,
     '(0020,000e)': `UI [${inventedUid(2)}]`,
-    '(0028,0002)': 'US 1',
+    '(0028,0002)': `US ${spec.samplesPerPixel ?? 1}`,
     '(0028,0004)': `CS [${spec.photometric ?? 'MONOCHROME2'}]`,
+    ...(spec.samplesPerPixel === 3 ? { '(0028,0006)': `US ${spec.planarConfiguration ?? 0}` } : {}),
+    ...(spec.frames !== undefined ? { '(0028,0008)': `IS [${spec.frames}]` } : {}),
     '(0028,0010)': `US ${spec.rows}`,
     '(0028,0011)': `US ${spec.columns}`,
     '(0028,0100)': `US ${ba}`,

@@ -3,7 +3,10 @@
  * every pixel against `dcmj2pnm` (bit-exact for native, deflated and JPEG lossless files). The files
  * are written by dcmtk (tests/support/dicom-fixtures.ts); all values in them are invented.
  */
+import { execFileSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { readDicom, readDicomHeader, type DicomMeta } from '../../lib/films';
 import { storedValues } from '../../lib/films/pixels';
@@ -16,6 +19,7 @@ import {
   inventedIdentity,
   modifyDicom,
   patternPixels,
+  readPgm,
   writeDicom,
   writeJpegBaselineDicom,
   type DicomFixtureSpec,
@@ -310,5 +314,94 @@ describe('pixels equal dcmtk decoding, bit for bit (PS3.5 8.1.1 pixel cells, A.4
     const ours = Array.from(storedValues(film.pixels));
     const theirs = dcmtkStored(file, {}, 8);
     expect(ours.reduce((m, v, i) => Math.max(m, Math.abs(v - (theirs[i] ?? -999))), 0)).toBeLessThanOrEqual(1);
+  });
+});
+
+describe('multi-frame films: the first frame is read (PS3.3 C.7.6.6, PS3.5 A.4)', () => {
+  for (const syntax of ['explicit', 'jpeg-lossless-sv1'] as FixtureSyntax[]) {
+    it(`${syntax}, two frames`, async () => {
+      const rows = 13;
+      const columns = 17;
+      const both = patternPixels(2 * rows, columns, 12); // frame 1 then frame 2
+      const file = writeDicom(dir, `frames-${syntax}`, { rows, columns, pixels: both, frames: 2, syntax });
+      const film = await readDicom(readFileSync(file));
+      expect(film.meta.numberOfFrames).toBe(2);
+      const ours = Array.from(storedValues(film.pixels));
+      expect(ours).toEqual(dcmtkStored(file, {}, 12)); // dcmj2pnm renders frame 1 by default
+      expect(ours).toEqual(Array.from(both.subarray(0, rows * columns)));
+    });
+  }
+});
+
+/** dcmtk's greyscale rendering of a colour film: dcmj2pnm +G (8-bit PGM). */
+function dcmtkGrey(file: string): number[] {
+  const out = `${file}.grey.pgm`;
+  execFileSync('dcmj2pnm', ['-q', '+G', '+op', file, out]);
+  return readPgm(readFileSync(out)).values;
+}
+
+function maxDiff(a: ArrayLike<number>, b: ArrayLike<number>): number {
+  expect(a.length).toBe(b.length);
+  let m = 0;
+  for (let i = 0; i < a.length; i += 1) m = Math.max(m, Math.abs((a[i] ?? 0) - (b[i] ?? 0)));
+  return m;
+}
+
+describe('colour films are reduced to their luma (PS3.3 C.7.6.3.1.2)', () => {
+  const rows = 13;
+  const columns = 17;
+  const n = rows * columns;
+  const rgb = Array.from({ length: n * 3 }, (_, i) => (i * 97 + (i % 3) * 41) % 256); // invented colours
+
+  for (const planar of [0, 1] as const) {
+    it(`RGB, Planar Configuration ${planar}: Rec. 601 luma, within one grey level of dcmtk`, async () => {
+      // Planar Configuration 1 stores all R, then all G, then all B (C.7.6.3.1.3).
+      const samples = planar === 0 ? rgb : [0, 1, 2].flatMap((c) => Array.from({ length: n }, (_, i) => rgb[3 * i + c] ?? 0));
+      const file = writeDicom(dir, `rgb-${planar}`, {
+        rows,
+        columns,
+        pixels: samples,
+        bitsAllocated: 8,
+        bitsStored: 8,
+        samplesPerPixel: 3,
+        planarConfiguration: planar,
+        photometric: 'RGB',
+      });
+      const film = await readDicom(readFileSync(file));
+      expect(film.pixels.fromColour).toBe(true);
+      const ours = storedValues(film.pixels);
+      // Y = 0.299 R + 0.587 G + 0.114 B (ITU-R BT.601), rounded.
+      const luma = Array.from({ length: n }, (_, i) => Math.round(0.299 * rgb[3 * i]! + 0.587 * rgb[3 * i + 1]! + 0.114 * rgb[3 * i + 2]!));
+      expect(Array.from(ours)).toEqual(luma);
+      expect(maxDiff(ours, dcmtkGrey(file))).toBeLessThanOrEqual(1);
+    });
+  }
+
+  it('YBR_FULL: the Y channel, close to dcmtk converting through RGB', async () => {
+    // In-gamut YBR_FULL made from the RGB above with the C.7.6.3.1.2 equations.
+    const ybr: number[] = [];
+    for (let i = 0; i < n; i += 1) {
+      const [r, g, b] = [rgb[3 * i]!, rgb[3 * i + 1]!, rgb[3 * i + 2]!];
+      ybr.push(
+        Math.round(0.299 * r + 0.587 * g + 0.114 * b),
+        Math.round(-0.1687 * r - 0.3313 * g + 0.5 * b + 128),
+        Math.round(0.5 * r - 0.4187 * g - 0.0813 * b + 128),
+      );
+    }
+    const file = writeDicom(dir, 'ybr', { rows, columns, pixels: ybr, bitsAllocated: 8, bitsStored: 8, samplesPerPixel: 3, photometric: 'YBR_FULL' });
+    const film = await readDicom(readFileSync(file));
+    const ours = storedValues(film.pixels);
+    expect(Array.from(ours)).toEqual(ybr.filter((_, k) => k % 3 === 0));
+    expect(maxDiff(ours, dcmtkGrey(file))).toBeLessThanOrEqual(2); // dcmtk rounds twice (to RGB, then to grey)
+  });
+
+  it('a colour JPEG baseline (img2dcm: YBR_FULL_422) within one grey level of dcmtk', async () => {
+    const jpg = join(dir, 'colour.jpg');
+    await sharp(Buffer.from(rgb), { raw: { width: columns, height: rows, channels: 3 } }).jpeg({ quality: 95 }).toFile(jpg);
+    const file = join(dir, 'colour-jpeg.dcm');
+    execFileSync('img2dcm', ['-q', jpg, file]);
+    const film = await readDicom(readFileSync(file));
+    expect(film.meta.photometricInterpretation).toBe('YBR_FULL_422');
+    expect(maxDiff(storedValues(film.pixels), dcmtkGrey(file))).toBeLessThanOrEqual(1);
   });
 });

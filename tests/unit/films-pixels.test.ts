@@ -177,6 +177,7 @@ describe('VOI LUT Sequence (PS3.3 C.11.2.1.1)', () => {
   }
 });
 
+// The 0.5-99.5 % cut is common practice for display windows, not a DICOM rule.
 describe('percentile window when the film stores none', () => {
   it('spans the 0.5 to 99.5 % of the histogram, so a few outliers do not flatten the picture', async () => {
     const n = 100 * 100;

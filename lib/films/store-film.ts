@@ -21,7 +21,7 @@ import { dicomTimeToInstant } from "@/lib/film-time";
 import { ingestFilm } from "./ingest";
 
 /** Largest film accepted, bytes: FILM_MAX_BYTES, default 100 MB (a 43 x 43 cm detector at 16 bits is about 35 MB). */
-export function filmMaxBytes(env: NodeJS.ProcessEnv = process.env): number {
+export function filmMaxBytes(env: Record<string, string | undefined> = process.env): number {
   const raw = env.FILM_MAX_BYTES?.trim();
   const n = raw ? Number(raw) : NaN;
   return Number.isInteger(n) && n > 0 ? n : 100 * 1024 * 1024;

@@ -9,11 +9,13 @@ import { effectiveCalibration } from "@/lib/film-view";
 import {
   calipersOutsideFilm,
   toCaliperSet,
+  type EstimateSettings,
   type MeasurementCreate,
   type MeasurementUpdate,
   type MeasurementView,
   type ReaderChain,
 } from "@/lib/validation/measurements";
+import { readDeviationSettings } from "@/lib/settings-registry";
 import { writeAudit } from "./audit";
 import { getFilm, type FilmRecord } from "./films";
 import type { Trx } from "./knex";
@@ -123,13 +125,27 @@ export async function listFilmMeasurements(trx: Trx, teamId: string, filmId: str
  * projection and position. The same function the film desk calls in the browser, so live and saved
  * figures agree; the saved ones are these.
  */
-export function computeEstimate(film: Pick<FilmForMeasure, "calibration" | "calibration_override" | "projection" | "position">, calipers: CaliperSet, plane: Plane): CaliperEstimate {
+export function computeEstimate(
+  film: Pick<FilmForMeasure, "calibration" | "calibration_override" | "projection" | "position">,
+  calipers: CaliperSet,
+  plane: Plane,
+  settings: EstimateSettings,
+): CaliperEstimate {
   const calibration = effectiveCalibration(film.calibration, film.calibration_override);
   return estimateFromCalipers(calipers, { film: calibration.film, patient: calibration.patient, correctionUnknown: calibration.correctionUnknown, notes: calibration.notes }, {
     plane,
     projection: film.projection,
     position: film.position,
+    disagreementPoints: settings.disagreementPoints,
+    largeBtsHilumCm: settings.largeBtsHilumCm,
+    largeAccpApexCm: settings.largeAccpApexCm,
   });
+}
+
+/** The thresholds in force (admin settings over the published defaults), for the server and the film desk alike. */
+export async function estimateSettings(trx: Trx): Promise<EstimateSettings> {
+  const s = await readDeviationSettings(trx);
+  return { disagreementPoints: s.disagreementPoints, largeBtsHilumCm: s.largeBtsHilumCm, largeAccpApexCm: s.largeAccpApexCm };
 }
 
 /** The denormalised columns, from the estimate. */
@@ -181,7 +197,7 @@ export async function createMeasurement(trx: Trx, actor: Actor, filmId: string, 
   }
   const calipers = toCaliperSet(input.calipers);
   checkOnFilm(film, calipers);
-  const est = computeEstimate(film, calipers, input.plane);
+  const est = computeEstimate(film, calipers, input.plane, await estimateSettings(trx));
   const id = randomUUID();
   try {
     await trx("measurements").insert({
@@ -244,7 +260,7 @@ export async function updateMeasurement(trx: Trx, actor: Actor, id: string, inpu
   if (film.deleted_at) throw new AppError("conflict", "This film was withdrawn; its measurements can no longer change.");
   const calipers = toCaliperSet(input.calipers);
   checkOnFilm(film, calipers);
-  const est = computeEstimate(film, calipers, input.plane);
+  const est = computeEstimate(film, calipers, input.plane, await estimateSettings(trx));
 
   const superseded = await trx("measurements").where({ id: current.id }).whereNull("superseded_at").update({ superseded_at: trx.fn.now() });
   if (superseded !== 1) throw staleConflict(undefined);

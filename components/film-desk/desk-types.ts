@@ -1,6 +1,6 @@
 // Shapes shared by the film desk's client components.
 import type { CaliperName, FilmCalibration } from "@/measure";
-import type { MeasurementView, ReaderChain } from "@/lib/validation/measurements";
+import type { EstimateSettings, MeasurementView, ReaderChain } from "@/lib/validation/measurements";
 
 export type DeskMode = "measure" | "pan" | "window";
 
@@ -36,6 +36,8 @@ export interface FilmDeskFilm {
   calibration: FilmCalibration;
   calibrationWords: string;
   withdrawn: boolean;
+  /** Thresholds in force, so live figures match what the server will store. */
+  settings: EstimateSettings;
 }
 
 export interface FilmDeskUser {

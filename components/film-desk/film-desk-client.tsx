@@ -116,8 +116,8 @@ export function FilmDeskClient({ film, side, user, initial }: Props) {
   // Live figures: measure/ in the browser, the same function the server runs on save.
   const calibration = film.calibration;
   const live = useMemo(
-    () => estimateFromCalipers(present.calipers, calibration, { plane, projection: film.projection, position: film.position }),
-    [present.calipers, calibration, plane, film.projection, film.position],
+    () => estimateFromCalipers(present.calipers, calibration, { plane, projection: film.projection, position: film.position, ...film.settings }),
+    [present.calipers, calibration, plane, film.projection, film.position, film.settings],
   );
   const deferredLive = useDeferredValue(live);
 

@@ -47,7 +47,12 @@ export const caliperSet = z
       lower: segmentFor("lower"),
       hilum: segmentFor("hilum"),
     },
-    { message: `Calipers must be an object with any of: ${caliperNames.join(", ")}` },
+    {
+      error: (iss) =>
+        iss.code === "unrecognized_keys"
+          ? `Unknown caliper ${iss.keys.map((k) => `"${k}"`).join(", ")}: the caliper set has ${caliperNames.join(", ")}`
+          : `Calipers must be an object with any of: ${caliperNames.join(", ")}`,
+    },
   )
   .refine((set) => caliperNames.some((n) => set[n]), { message: "Draw at least one caliper before saving." });
 
@@ -96,6 +101,13 @@ export function calipersOutsideFilm(set: CaliperSet, columns: number, rows: numb
     }
   }
   return fields;
+}
+
+/** Thresholds that shape the estimate (local settings over published defaults), shared by server and film desk. */
+export interface EstimateSettings {
+  disagreementPoints: number;
+  largeBtsHilumCm: number;
+  largeAccpApexCm: number;
 }
 
 /** One version of a reader's measurement, as the routes answer and the film desk shows it. */

@@ -8,7 +8,7 @@ import { db } from "@/db/knex";
 import { getFilm, toFilmView } from "@/db/films";
 import { getEpisode } from "@/db/episodes";
 import { getPatient } from "@/db/patients";
-import { listFilmMeasurements } from "@/db/measurements";
+import { estimateSettings, listFilmMeasurements } from "@/db/measurements";
 import { isUuid, orNotFound } from "@/lib/pages";
 import { formatDateTime, sideLabel } from "@/lib/format";
 import { positionLabel, projectionLabel } from "@/lib/film-view";
@@ -22,7 +22,11 @@ export default async function FilmDeskPage({ params }: { params: Promise<{ id: s
   if (!isUuid(id)) notFound();
   const record = await orNotFound(getFilm(db(), user.teamId, id));
   const film = toFilmView(record);
-  const [episode, measurements] = await Promise.all([getEpisode(db(), user.teamId, film.episodeId), listFilmMeasurements(db(), user.teamId, id)]);
+  const [episode, measurements, settings] = await Promise.all([
+    getEpisode(db(), user.teamId, film.episodeId),
+    listFilmMeasurements(db(), user.teamId, id),
+    estimateSettings(db()),
+  ]);
   const patient = await getPatient(db(), user.teamId, episode.patient_id);
   const view = [projectionLabel(film.projection), positionLabel(film.position)].filter(Boolean).join(", ");
 
@@ -65,6 +69,7 @@ export default async function FilmDeskPage({ params }: { params: Promise<{ id: s
           calibration: { film: film.calibration.film, patient: film.calibration.patient, correctionUnknown: film.calibration.correctionUnknown, notes: film.calibration.notes },
           calibrationWords: film.calibration.words,
           withdrawn: film.withdrawn !== null,
+          settings,
         }}
         side={episode.side}
         user={{ id: user.id, name: user.name, canMeasure: can(user.role, "measurement.write"), canSignOff: can(user.role, "measurement.signoff") }}

@@ -32,7 +32,15 @@ function toLocalInput(iso: string): string {
   return d.toISOString().slice(0, 16);
 }
 
-export function FilmCard({ film, presentedOn, canEdit, canWithdraw }: { film: FilmView; presentedOn: string; canEdit: boolean; canWithdraw: boolean }) {
+interface FilmCardProps {
+  film: FilmView;
+  presentedOn: string;
+  canEdit: boolean;
+  canWithdraw: boolean;
+  canMeasure: boolean;
+}
+
+export function FilmCard({ film, presentedOn, canEdit, canWithdraw, canMeasure }: FilmCardProps) {
   const router = useRouter();
   const [mode, setMode] = useState<"view" | "edit" | "withdraw">("view");
   const [busy, setBusy] = useState(false);
@@ -89,8 +97,8 @@ export function FilmCard({ film, presentedOn, canEdit, canWithdraw }: { film: Fi
 
         {mode === "view" ? (
           <div className="mt-auto flex flex-wrap gap-2 pt-2">
-            <Link href={`/films/${film.id}`} className={buttonClass("primary", "px-3 py-1.5")}>
-              Measure
+            <Link href={`/films/${film.id}`} className={buttonClass(canMeasure ? "primary" : "quiet", "px-3 py-1.5")}>
+              {canMeasure ? "Measure" : "Open on the film desk"}
             </Link>
             {canEdit && anyEditable ? (
               <Button tone="quiet" className="px-3 py-1.5" onClick={() => setMode("edit")}>

@@ -14,10 +14,11 @@ interface Props {
   withdrawn: FilmView[];
   canUpload: boolean;
   canWithdraw: boolean;
+  canMeasure: boolean;
   maxBytes: number;
 }
 
-export function FilmsPanel({ episodeId, presentedOn, films, withdrawn, canUpload, canWithdraw, maxBytes }: Props) {
+export function FilmsPanel({ episodeId, presentedOn, films, withdrawn, canUpload, canWithdraw, canMeasure, maxBytes }: Props) {
   const uncalibrated = films.filter((f) => f.calibration.source === "none").length;
   return (
     <Card title={`Films${films.length > 0 ? ` (${films.length})` : ""}`}>
@@ -30,7 +31,7 @@ export function FilmsPanel({ episodeId, presentedOn, films, withdrawn, canUpload
         </Empty>
       ) : (
         <>
-          {uncalibrated > 0 ? (
+          {uncalibrated > 0 && canMeasure ? (
             <p className="mb-3 rounded-md bg-amber-wash px-3 py-2 text-sm text-amber-ink">
               {uncalibrated === 1 ? "One film has" : `${uncalibrated} films have`} no calibration: only the Light index can be measured until a reference
               line of known length is drawn on the film desk.
@@ -38,7 +39,7 @@ export function FilmsPanel({ episodeId, presentedOn, films, withdrawn, canUpload
           ) : null}
           <ol className="grid gap-4 sm:grid-cols-2 2xl:grid-cols-3" aria-label="Films in the order taken">
             {films.map((f) => (
-              <FilmCard key={f.id} film={f} presentedOn={presentedOn} canEdit={canUpload} canWithdraw={canWithdraw} />
+              <FilmCard key={f.id} film={f} presentedOn={presentedOn} canEdit={canUpload} canWithdraw={canWithdraw} canMeasure={canMeasure} />
             ))}
           </ol>
         </>

@@ -17,6 +17,7 @@ export async function FilmsSection({ episode, user }: SectionProps) {
       withdrawn={films.filter((f) => f.withdrawn)}
       canUpload={can(user.role, "film.upload")}
       canWithdraw={can(user.role, "film.delete")}
+      canMeasure={can(user.role, "measurement.write")}
       maxBytes={filmMaxBytes()}
     />
   );

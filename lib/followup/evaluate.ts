@@ -5,6 +5,7 @@
 // never raise again a finding a consultant has already resolved. Call it inside the transaction of
 // the change that prompted it (a saved or signed-off measurement, a missed booking, ...).
 import "server-only";
+import type { Knex } from "knex";
 import { MeasureInputError, deviations } from "@/measure";
 import { db, type Trx } from "@/db/knex";
 import { insertFlag, liveFlagsOfEpisode, resolvedFlagsOfEpisode, supersedeFlag, updateFlagFigures, type FlagRow } from "@/db/flags";
@@ -33,12 +34,10 @@ export async function evaluateEpisodeFlags(trx: Trx, episodeId: string, now: Dat
   if (!locked) throw notFound("That episode");
   const result: EvaluationResult = { episodeId, raised: [], updated: [], superseded: [], unchanged: 0, alreadyDecided: 0, skipped: null };
 
-  const [settings, seriesMap, live, resolved] = await Promise.all([
-    readDeviationSettings(trx),
-    loadEpisodeSeries(trx, [episodeId]),
-    liveFlagsOfEpisode(trx, episodeId),
-    resolvedFlagsOfEpisode(trx, episodeId),
-  ]);
+  const settings = await readDeviationSettings(trx);
+  const seriesMap = await loadEpisodeSeries(trx, [episodeId]);
+  const live = await liveFlagsOfEpisode(trx, episodeId);
+  const resolved = await resolvedFlagsOfEpisode(trx, episodeId);
   const data = seriesMap.get(episodeId);
   if (!data) throw notFound("That episode");
 
@@ -117,8 +116,15 @@ export interface SweepSummary {
  * The nightly run: evaluates every active episode, each in its own transaction so that one bad record
  * does not stop the rest. Idempotent: a second run at the same `now` changes nothing.
  */
-export async function sweepFlags(now: Date, knex = db()): Promise<SweepSummary> {
-  const ids = (await knex("episodes").where({ status: "active" }).orderBy("id").pluck("id")) as string[];
+export async function sweepFlags(now: Date, opts: { knex?: Knex; teamId?: string } = {}): Promise<SweepSummary> {
+  const knex = opts.knex ?? db();
+  const ids = (await knex("episodes")
+    .where({ status: "active" })
+    .modify((q) => {
+      if (opts.teamId) q.where({ team_id: opts.teamId });
+    })
+    .orderBy("id")
+    .pluck("id")) as string[];
   const summary: SweepSummary = { episodes: ids.length, raised: 0, updated: 0, superseded: 0, failed: [] };
   for (const id of ids) {
     try {

@@ -39,6 +39,19 @@ export interface EpisodeSeriesData {
   nextBooking: { id: string; scheduledAt: Date; dayIndex: number } | null;
 }
 
+/**
+ * Runs independent queries: side by side on the pool, one after another inside a transaction (a
+ * transaction is one connection, and pg wants one query at a time on it).
+ */
+export async function inTurn<T extends readonly unknown[]>(trx: Trx, thunks: { [K in keyof T]: () => Promise<T[K]> }): Promise<T> {
+  if ("isTransaction" in trx && trx.isTransaction) {
+    const out: unknown[] = [];
+    for (const t of thunks) out.push(await t());
+    return out as unknown as T;
+  }
+  return (await Promise.all(thunks.map((t) => t()))) as unknown as T;
+}
+
 export const daysBetween = (from: Date, to: Date): number => (to.getTime() - from.getTime()) / DAY_MS;
 
 /** A stored percent the rules can use: finite and within 0-100, otherwise treated as not measured. */
@@ -75,13 +88,13 @@ export async function loadEpisodeSeries(trx: Trx, episodeIds: readonly string[])
   const out = new Map<string, EpisodeSeriesData>();
   if (episodeIds.length === 0) return out;
   const ids = [...new Set(episodeIds)];
-  const [episodes, films, measurements, oxygen, bookings] = await Promise.all([
-    trx("episodes").whereIn("id", ids).select("id", "team_id", "status", "primary_method", "presented_on") as Promise<EpisodeFacts[]>,
-    trx("films")
+  const [episodes, films, measurements, oxygen, bookings] = await inTurn<[EpisodeFacts[], FilmFacts[], MeasurementFacts[], OxygenFacts[], BookingFacts[]]>(trx, [
+    () => trx("episodes").whereIn("id", ids).select("id", "team_id", "status", "primary_method", "presented_on") as Promise<EpisodeFacts[]>,
+    () => trx("films")
       .whereIn("episode_id", ids)
       .whereNull("deleted_at")
       .select("id", "episode_id", "taken_at", "created_at", "projection", "position") as Promise<FilmFacts[]>,
-    trx
+    () => trx
       .select("id", "film_id", "light_percent", "rhea_percent", "collins_percent", "hilum_cm", "apex_cm", "signed_off_at")
       .from(
         trx("measurements")
@@ -92,13 +105,18 @@ export async function loadEpisodeSeries(trx: Trx, episodeIds: readonly string[])
           .orderBy("film_id")
           .orderByRaw("(signed_off_at is not null) desc, signed_off_at desc nulls last, created_at desc, version desc")
           .as("m"),
-      ) as Promise<MeasurementFacts[]>,
-    trx("oxygen_periods").whereIn("episode_id", ids).select("episode_id", "started_at", "ended_at").orderBy("started_at") as Promise<OxygenFacts[]>,
-    trx("bookings")
-      .whereIn("episode_id", ids)
-      .where({ kind: "repeat-film", state: "booked" })
-      .select("id", "episode_id", "scheduled_at")
-      .orderBy("scheduled_at") as Promise<BookingFacts[]>,
+      ),
+    () => trx("oxygen_periods").whereIn("episode_id", ids).select("episode_id", "started_at", "ended_at").orderBy("started_at") as Promise<OxygenFacts[]>,
+    // The next film is due at the earliest booked repeat film, or at a missed one nobody has rebooked yet
+    // (so that a missed film makes the episode overdue).
+    () => trx("bookings as b")
+      .whereIn("b.episode_id", ids)
+      .where("b.kind", "repeat-film")
+      .whereRaw(
+        "(b.state = 'booked' or (b.state = 'missed' and not exists (select 1 from bookings l where l.episode_id = b.episode_id and l.created_at > b.updated_at and l.state in ('booked', 'attended'))))",
+      )
+      .select("b.id", "b.episode_id", "b.scheduled_at")
+      .orderBy("b.scheduled_at") as Promise<BookingFacts[]>,
   ]);
   const byFilm = new Map(measurements.map((m) => [m.film_id, m]));
   for (const e of episodes) {

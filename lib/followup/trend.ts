@@ -6,7 +6,8 @@ import { getEpisode } from "@/db/episodes";
 import { FLAG_COLUMNS, type FlagRow } from "@/db/flags";
 import { LIVE_STATES } from "@/lib/followup/rules";
 import { readDeviationSettings } from "@/lib/settings-registry";
-import { daysBetween, loadEpisodeSeries } from "./series";
+import type { DeviationSettings } from "@/measure";
+import { daysBetween, inTurn, loadEpisodeSeries, type EpisodeSeriesData } from "./series";
 import { sparklineFromSeries, trendFromSeries, type Sparkline, type TrendData, type TrendEvent, type TrendEventKind } from "./course";
 
 export type { ExpectedPoint, Sparkline, TrendData, TrendEvent, TrendEventKind, TrendFilm, TrendFlag, TrendPoint } from "./course";
@@ -24,12 +25,12 @@ const PROCEDURE_EVENTS: Record<string, { kind: TrendEventKind; label: string }> 
 /** Everything the resorption chart shows for one episode of the caller's team (404 otherwise). */
 export async function getEpisodeTrend(trx: Trx, teamId: string, episodeId: string, now: Date): Promise<TrendData> {
   await getEpisode(trx, teamId, episodeId);
-  const [settings, seriesMap, procedures, drains, flags] = await Promise.all([
-    readDeviationSettings(trx),
-    loadEpisodeSeries(trx, [episodeId]),
-    trx("procedures").where({ episode_id: episodeId }).select("kind", "performed_at", "volume_ml").orderBy("performed_at") as Promise<{ kind: string; performed_at: Date; volume_ml: number | null }[]>,
-    trx("drains").where({ episode_id: episodeId, team_id: teamId }).select("inserted_at", "removed_at", "size_fr").orderBy("inserted_at") as Promise<{ inserted_at: Date; removed_at: Date | null; size_fr: number }[]>,
-    trx("flags").where({ episode_id: episodeId, team_id: teamId }).whereIn("state", LIVE_STATES).select(FLAG_COLUMNS).orderBy("raised_at") as Promise<FlagRow[]>,
+  const [settings, seriesMap, procedures, drains, flags] = await inTurn<[DeviationSettings, Map<string, EpisodeSeriesData>, { kind: string; performed_at: Date; volume_ml: number | null }[], { inserted_at: Date; removed_at: Date | null; size_fr: number }[], FlagRow[]]>(trx, [
+    () => readDeviationSettings(trx),
+    () => loadEpisodeSeries(trx, [episodeId]),
+    () => trx("procedures").where({ episode_id: episodeId }).select("kind", "performed_at", "volume_ml").orderBy("performed_at") as Promise<{ kind: string; performed_at: Date; volume_ml: number | null }[]>,
+    () => trx("drains").where({ episode_id: episodeId, team_id: teamId }).select("inserted_at", "removed_at", "size_fr").orderBy("inserted_at") as Promise<{ inserted_at: Date; removed_at: Date | null; size_fr: number }[]>,
+    () => trx("flags").where({ episode_id: episodeId, team_id: teamId }).whereIn("state", LIVE_STATES).select(FLAG_COLUMNS).orderBy("raised_at") as Promise<FlagRow[]>,
   ]);
   const data = seriesMap.get(episodeId);
   if (!data) throw new Error("episode series missing");
@@ -58,7 +59,8 @@ export async function getEpisodeTrend(trx: Trx, teamId: string, episodeId: strin
 
 /** Sparklines for several episodes at once (one load for a page of the board). */
 export async function sparklinesFor(trx: Trx, episodeIds: readonly string[], now: Date): Promise<Map<string, Sparkline | null>> {
-  const [settings, seriesMap] = await Promise.all([readDeviationSettings(trx), loadEpisodeSeries(trx, episodeIds)]);
+  const settings = await readDeviationSettings(trx);
+  const seriesMap = await loadEpisodeSeries(trx, episodeIds);
   const out = new Map<string, Sparkline | null>();
   for (const [id, data] of seriesMap) out.set(id, sparklineFromSeries(data, settings, now));
   return out;

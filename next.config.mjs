@@ -1,10 +1,17 @@
 /** @type {import('next').NextConfig} */
+const https = (process.env.NEXTAUTH_URL ?? "").startsWith("https://");
 const securityHeaders = [
   { key: "X-Content-Type-Options", value: "nosniff" },
   { key: "Referrer-Policy", value: "same-origin" },
   { key: "X-Frame-Options", value: "DENY" },
-  { key: "Permissions-Policy", value: "camera=(), microphone=(), geolocation=()" },
+  { key: "Permissions-Policy", value: "camera=(), microphone=(), geolocation=(), payment=(), usb=()" },
+  { key: "Cross-Origin-Opener-Policy", value: "same-origin" },
+  { key: "Cross-Origin-Resource-Policy", value: "same-origin" },
+  ...(https ? [{ key: "Strict-Transport-Security", value: "max-age=31536000" }] : []),
 ];
+// Pages get a Content Security Policy with a per-response script nonce from proxy.ts. Route handlers
+// answer JSON, images and files, never pages: nothing in them may run or be framed.
+const apiHeaders = [{ key: "Content-Security-Policy", value: "default-src 'none'; frame-ancestors 'none'; base-uri 'none'; form-action 'none'" }];
 
 const nextConfig = {
   // Several builds can live side by side (tests, benches) when NEXT_DIST_DIR is set.
@@ -18,7 +25,10 @@ const nextConfig = {
     serverActions: { bodySizeLimit: "2mb" },
   },
   async headers() {
-    return [{ source: "/:path*", headers: securityHeaders }];
+    return [
+      { source: "/:path*", headers: securityHeaders },
+      { source: "/api/:path*", headers: apiHeaders },
+    ];
   },
 };
 

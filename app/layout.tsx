@@ -13,6 +13,9 @@ const body = localFont({
 });
 const figures = localFont({ src: "./fonts/jetbrains-mono.woff2", variable: "--font-figures", display: "swap", weight: "100 800" });
 
+// Every page is rendered per request, so each gets the script nonce of its Content Security Policy (proxy.ts).
+export const dynamic = "force-dynamic";
+
 export const metadata: Metadata = {
   title: { default: "Rimwatch", template: "%s · Rimwatch" },
   description: "Pneumothorax follow-up for respiratory teams",

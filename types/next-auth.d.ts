@@ -2,7 +2,7 @@ import type { Role } from "@/lib/auth/permissions";
 
 declare module "next-auth" {
   interface Session {
-    user: { id: string; name?: string | null; email?: string | null; role: Role; teamId: string };
+    user: { id: string; name?: string | null; email?: string | null; role: Role; teamId: string; signedInAt?: number };
   }
 }
 
@@ -10,5 +10,7 @@ declare module "next-auth/jwt" {
   interface JWT {
     role?: Role;
     teamId?: string;
+    /** When the user signed in (ms since 1970); kept across token refreshes. */
+    signedInAt?: number;
   }
 }

@@ -53,6 +53,7 @@ export const authOptions: NextAuthOptions = {
         token.sub = u.id;
         token.role = u.role;
         token.teamId = u.teamId;
+        token.signedInAt = Date.now();
       }
       return token;
     },
@@ -61,6 +62,7 @@ export const authOptions: NextAuthOptions = {
         session.user.id = token.sub ?? "";
         session.user.role = token.role as Role;
         session.user.teamId = token.teamId as string;
+        session.user.signedInAt = token.signedInAt;
       }
       return session;
     },

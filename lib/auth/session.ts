@@ -26,6 +26,9 @@ export async function currentUser(): Promise<CurrentUser | null> {
   if (!id) return null;
   const row = await getUser(db(), id);
   if (!row || row.disabled_at) return null;
+  // A session from before the latest password change is over (the sign-in time travels in the token).
+  const signedInAt = session.user.signedInAt;
+  if (typeof signedInAt !== "number" || row.password_changed_at.getTime() > signedInAt) return null;
   return { id: row.id, name: row.name, email: row.email, role: row.role, teamId: row.team_id };
 }
 

@@ -51,7 +51,9 @@ export async function signIn(email: string, password: string, headers: Record<st
     body: new URLSearchParams({ csrfToken, email, password, json: "true" }),
   });
   collectCookies(res, jar);
-  const location = res.headers.get("location") ?? "";
+  // With json=true next-auth answers a refused sign-in with 401 and { url } instead of a redirect.
+  let location = res.headers.get("location") ?? "";
+  if (!location && res.headers.get("content-type")?.includes("json")) location = ((await res.json()) as { url?: string }).url ?? "";
   const error = new URL(location, baseUrl()).searchParams.get("error");
   const ok = [...jar.keys()].some((k) => k.endsWith("next-auth.session-token"));
   return Object.assign(clientFrom(jar), { ok, error: ok ? null : (error ?? "no session") });

@@ -10,6 +10,8 @@ const resolve = {
   },
 };
 
+const LAST = ["tests/integration/faults.test.ts", "tests/integration/logs.test.ts"];
+
 export default defineConfig({
   test: {
     projects: [
@@ -19,12 +21,28 @@ export default defineConfig({
         test: {
           name: "integration",
           include: ["tests/integration/**/*.test.ts"],
+          exclude: [...LAST],
           environment: "node",
           testTimeout: 60_000,
           hookTimeout: 60_000,
           fileParallelism: false,
+          sequence: { groupOrder: 1 },
         },
       },
+      // After every other integration file, one group each (groups run in groupOrder; vitest does not
+      // order files by name): faults stops and restarts services; logs reads the server's whole log.
+      ...LAST.map((file, i) => ({
+        resolve,
+        test: {
+          name: `integration-${file.replace(/^.*\/|\.test\.ts$/g, "")}`,
+          include: [file],
+          environment: "node" as const,
+          testTimeout: 60_000,
+          hookTimeout: 60_000,
+          fileParallelism: false,
+          sequence: { groupOrder: 2 + i },
+        },
+      })),
     ],
   },
 });

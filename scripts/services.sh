@@ -136,9 +136,15 @@ services_up() { # dev | test
 }
 
 services_down() {
-  local pid
+  local pid f
   for pid in "${RW_PIDS[@]}"; do kill -TERM -- "-$pid" 2>/dev/null || kill -TERM "$pid" 2>/dev/null || true; done
   RW_PIDS=()
+  # A service a test stopped and started again (tests/integration/faults.test.ts) leaves its pid here.
+  if [ -n "$RW_RUN_DIR" ]; then
+    for f in "$RW_RUN_DIR"/restarted-*.pid; do
+      [ -f "$f" ] && { pid="$(cat "$f")"; kill -TERM -- "-$pid" 2>/dev/null || kill -TERM "$pid" 2>/dev/null || true; rm -f "$f"; }
+    done
+  fi
   rw_stop_postgres
   if [ -n "$RW_RUN_DIR" ] && [[ "$RW_RUN_DIR" == */.data/test-* ]] && [ -z "${KEEP_TEST_DATA:-}" ]; then rm -rf "$RW_RUN_DIR"; fi
 }

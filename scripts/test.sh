@@ -17,6 +17,7 @@ fi
 
 unset DATABASE_URL S3_ENDPOINT S3_BUCKET SMTP_HOST # tests always run on their own throw-away services
 trap 'services_down' EXIT
+trap 'exit 143' TERM INT
 services_up test || exit 1
 REPORTS="$RW_RUN_DIR/reports"; mkdir -p "$REPORTS"
 
@@ -24,6 +25,7 @@ rw_migrate || exit 1
 node --conditions=react-server --import tsx db/demo/load.ts >/dev/null || { rw_log "demo data failed to load"; exit 1; }
 export NEXTAUTH_SECRET="test-secret-$(date +%s%N)"
 export RIMWATCH_DEMO=1
+export MAIL_RETRY_LIMIT=2 MAIL_RETRY_DELAY_SECONDS=1 # quick mail retries (the refused-relay test waits for them)
 
 # One build and one server for integration and browser tests; integration tests make their own teams.
 export NEXT_DIST_DIR=".next-test"

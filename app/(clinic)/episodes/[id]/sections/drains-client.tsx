@@ -133,6 +133,14 @@ function Prompts({ d, thresholds, reExpansion }: { d: DrainView; thresholds: Pro
       </Prompt>,
     );
   }
+  const last = d.observations[d.observations.length - 1];
+  if (!d.removedAt && !d.check.prompt && last && !last.swinging && d.lung.reExpanded === null) {
+    items.push(
+      <Prompt key="swing-unknown" tone="info" title="No swing at the last observation" source={`${d.check.source}; lung ${reExpansion.text} (${reExpansion.source})`}>
+        {d.lung.reason} Measure a film taken since insertion to tell whether the lung is up; if it is not, check the drain.
+      </Prompt>,
+    );
+  }
   return items.length ? <div className="mt-3 space-y-2">{items}</div> : null;
 }
 

@@ -101,7 +101,7 @@ async function signIn(email: string): Promise<string> {
 
 function run(url: string, headers: Record<string, string>): Promise<autocannon.Result> {
   return new Promise((resolve, reject) => {
-    autocannon({ url, connections: CONNECTIONS, duration: SECONDS, headers }, (err: unknown, result) => (err ? reject(err instanceof Error ? err : new Error(String(err))) : resolve(result)));
+    autocannon({ url, connections: CONNECTIONS, duration: SECONDS, headers }, (err: unknown, result) => (err ? reject(err instanceof Error ? err : new Error("autocannon failed")) : resolve(result)));
   });
 }
 

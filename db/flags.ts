@@ -4,6 +4,7 @@
 import "server-only";
 import { AppError, notFound } from "@/lib/errors";
 import { LIVE_STATES, type FlagPlan, type FlagState } from "@/lib/followup/rules";
+import { queueFlagNotice } from "@/lib/mail/outbox";
 import { writeAudit } from "./audit";
 import type { Trx } from "./knex";
 import type { Actor } from "./types";
@@ -69,6 +70,7 @@ export async function insertFlag(trx: Trx, actor: Actor | null, f: NewFlag): Pro
     .returning(FLAG_COLUMNS);
   const flag = row as FlagRow;
   await writeAudit(trx, { actorId: actor?.id ?? null, teamId: f.teamId, action: "flag.raise", entity: "flag", entityId: flag.id, after: flag });
+  await queueFlagNotice(trx, flag); // e-mail to the episode's consultant if they opted in (users.notify_on_flag)
   return flag;
 }
 

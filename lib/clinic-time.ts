@@ -1,7 +1,8 @@
 // Clinic wall-clock time: bookings are made and printed in the hospital's time zone, stored in UTC.
 // Pure: nothing here reads the clock; `now` is passed in.
 
-export const CLINIC_TIME_ZONE = process.env.CLINIC_TIME_ZONE ?? "Europe/London";
+// Also imported by browser code, where there is no process.env: the server passes the zone along.
+export const CLINIC_TIME_ZONE = (typeof process !== "undefined" ? process.env.CLINIC_TIME_ZONE : undefined) ?? "Europe/London";
 
 const DATE_RE = /^(\d{4})-(\d{2})-(\d{2})$/;
 const TIME_RE = /^([01]\d|2[0-3]):([0-5]\d)$/;

@@ -8,6 +8,8 @@ import { AppError } from "@/lib/errors";
 import { getSetting, putSetting } from "@/lib/settings";
 import type { Trx } from "@/db/knex";
 import type { Actor } from "@/db/types";
+import { diaryGroup, type DiarySettings } from "@/lib/mail/settings";
+import { travelGroup, type TravelSettings } from "@/lib/travel/settings";
 
 export interface SettingField {
   label: string;
@@ -75,8 +77,55 @@ export const deviationGroup: SettingGroup<typeof deviationSchema> = {
   },
 };
 
+// Follow-up protocols: days from an anchor event to the repeat film. The protocols themselves (key,
+// anchor, source) are fixed; the days are settings. Review at 2-4 weeks: MacDuff A et al., BTS 2010.
+export interface FollowUpProtocol {
+  key: string;
+  label: string;
+  /** Days after the anchor event until the repeat film. */
+  repeatFilmAfterDays: number;
+  anchor: "discharge" | "aspiration" | "drain-removal" | "presentation";
+  source: string;
+}
+
+const PROTOCOLS = [
+  { key: "observation", field: "observationDays", anchor: "discharge", words: "Observation: repeat film {d} days after discharge", source: "MacDuff A et al., BTS pleural disease guideline, Thorax 2010;65 Suppl 2 (review at 2-4 weeks)" },
+  { key: "aspiration", field: "aspirationDays", anchor: "aspiration", words: "After aspiration: repeat film {d} days later", source: "MacDuff A et al., BTS 2010 (review at 2-4 weeks)" },
+  { key: "drain", field: "drainDays", anchor: "drain-removal", words: "After drain removal: repeat film {d} days later", source: "MacDuff A et al., BTS 2010 (review at 2-4 weeks)" },
+  { key: "early", field: "earlyDays", anchor: "presentation", words: "Early check: repeat film {d} days after presentation", source: "common practice" },
+] as const;
+
+const protocolSchema = z
+  .object({
+    observationDays: num("Observation", 1, 90, { integer: true }),
+    aspirationDays: num("After aspiration", 1, 90, { integer: true }),
+    drainDays: num("After drain removal", 1, 90, { integer: true }),
+    earlyDays: num("Early check", 1, 14, { integer: true }),
+  })
+  .strict();
+
+export const protocolGroup: SettingGroup<typeof protocolSchema> = {
+  key: "followUpProtocols",
+  title: "Follow-up protocols",
+  description: "Days from the anchor event to the repeat film that the follow-up diary proposes. An episode follows the protocol chosen on it, else the one for its management.",
+  schema: protocolSchema,
+  defaults: { observationDays: 14, aspirationDays: 14, drainDays: 14, earlyDays: 2 },
+  fields: {
+    observationDays: { label: "Observation: after discharge", unit: "days", step: 1, source: PROTOCOLS[0].source, basis: "published" },
+    aspirationDays: { label: "After needle aspiration", unit: "days", step: 1, source: PROTOCOLS[1].source, basis: "published" },
+    drainDays: { label: "After chest drain removal", unit: "days", step: 1, source: PROTOCOLS[2].source, basis: "published" },
+    earlyDays: { label: "Early check: after presentation", unit: "days", step: 1, source: "common practice: a film about 48 hours after presentation", basis: "common practice" },
+  },
+};
+
+/** The follow-up protocols with the days in force (for the episode form and the diary's proposals). */
+export async function getProtocols(trx: Trx): Promise<FollowUpProtocol[]> {
+  const days = await readGroup(trx, protocolGroup);
+  return PROTOCOLS.map((p) => ({ key: p.key, label: p.words.replace("{d}", String(days[p.field])), repeatFilmAfterDays: days[p.field], anchor: p.anchor, source: p.source }));
+}
+
 /** Every settings group, in the order the settings screen shows them. Add new groups here. */
-export const SETTING_GROUPS: readonly SettingGroup[] = [deviationGroup];
+export const SETTING_GROUPS: readonly SettingGroup[] = [deviationGroup, protocolGroup, diaryGroup, travelGroup];
 
 export function findGroup(key: string): SettingGroup {
   const g = SETTING_GROUPS.find((x) => x.key === key);
@@ -102,6 +151,8 @@ export async function readGroup<S extends z.ZodObject>(trx: Trx, group: SettingG
 }
 
 export const readDeviationSettings = (trx: Trx): Promise<DeviationSettings> => readGroup(trx, deviationGroup);
+export const readDiarySettings = (trx: Trx): Promise<DiarySettings> => readGroup(trx, diaryGroup);
+export const readTravelSettings = (trx: Trx): Promise<TravelSettings> => readGroup(trx, travelGroup);
 
 export interface GroupView {
   key: string;

@@ -2,7 +2,7 @@
 // missed film, and a film to confirm resolution on the predicted date.
 import { describe, expect, it } from "vitest";
 import { proposeBookings, protocolFor, type ProposalInputs } from "@/lib/followup/proposals";
-import type { FollowUpProtocol } from "@/lib/settings";
+import type { FollowUpProtocol } from "@/lib/settings-registry";
 
 // Invented protocols in the shape of the team's settings. Review 2-4 weeks after discharge, aspiration
 // or drain removal: MacDuff A et al., BTS pleural disease guideline, Thorax 2010;65 Suppl 2.
@@ -32,14 +32,14 @@ describe("protocol proposals", () => {
     const [p, ...rest] = proposeBookings(base);
     expect(rest).toHaveLength(0);
     expect(p).toMatchObject({ kind: "protocol", source: "protocol", dueOn: "2026-12-05", proposedOn: "2026-12-05", late: false, moves: null });
-    expect(p?.reason).toMatch(/14 days after discharge on 2026-11-21/);
+    expect(p?.reason).toMatch(/counted from discharge on 21 Nov 2026/);
   });
 
   it("counts from presentation, and says so, when no discharge date is recorded", () => {
     // BTS 2010 anchor missing: 2026-11-20 + 14 days = 2026-12-04 (common practice: count from presentation)
     const [p] = proposeBookings({ ...base, episode: { ...base.episode, dischargedOn: null } });
     expect(p).toMatchObject({ dueOn: "2026-12-04" });
-    expect(p?.reason).toMatch(/no discharge date recorded/);
+    expect(p?.reason).toMatch(/presentation on 20 Nov 2026, as no discharge date is recorded/);
   });
 
   it("anchors on the latest aspiration after needle aspiration", () => {

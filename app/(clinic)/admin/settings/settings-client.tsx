@@ -6,7 +6,7 @@ import { ApiError, fetchJson } from "@/lib/client/api";
 import type { GroupView } from "@/lib/settings-registry";
 import { Card, Tag } from "@/components/ui/card";
 import { Button } from "@/components/ui/button";
-import { TextInput } from "@/components/ui/field";
+import { Select, TextInput } from "@/components/ui/field";
 
 export function SettingsClient({ groups, canWrite }: { groups: GroupView[]; canWrite: boolean }) {
   return (
@@ -16,7 +16,7 @@ export function SettingsClient({ groups, canWrite }: { groups: GroupView[]; canW
   );
 }
 
-const asText = (v: unknown) => (typeof v === "number" || typeof v === "string" ? String(v) : JSON.stringify(v));
+const asText = (v: unknown) => (typeof v === "number" || typeof v === "string" || typeof v === "boolean" ? String(v) : JSON.stringify(v));
 
 function GroupForm({ group, canWrite }: { group: GroupView; canWrite: boolean }) {
   const router = useRouter();
@@ -34,7 +34,7 @@ function GroupForm({ group, canWrite }: { group: GroupView; canWrite: boolean })
     for (const k of keys) {
       const raw = (next[k] ?? "").trim();
       const num = Number(raw);
-      payload[k] = raw !== "" && Number.isFinite(num) && typeof group.defaults[k] === "number" ? num : raw;
+      payload[k] = typeof group.defaults[k] === "boolean" ? raw === "true" : raw !== "" && Number.isFinite(num) && typeof group.defaults[k] === "number" ? num : raw;
     }
     try {
       await fetchJson("/api/settings", { method: "PUT", json: { key: group.key, values: payload } });
@@ -78,6 +78,12 @@ function GroupForm({ group, canWrite }: { group: GroupView; canWrite: boolean })
                   {f.unit ? <span className="block font-normal text-ink-soft">{f.unit}</span> : null}
                 </label>
                 <div>
+                  {typeof group.defaults[k] === "boolean" ? (
+                    <Select id={id} value={values[k] ?? ""} disabled={!canWrite || busy} aria-describedby={`${id}-source`} onChange={(e) => setValues((v) => ({ ...v, [k]: e.target.value }))} className="mt-0">
+                      <option value="true">On</option>
+                      <option value="false">Off</option>
+                    </Select>
+                  ) : (
                   <TextInput
                     id={id}
                     type="number"
@@ -89,10 +95,11 @@ function GroupForm({ group, canWrite }: { group: GroupView; canWrite: boolean })
                     onChange={(e) => setValues((v) => ({ ...v, [k]: e.target.value }))}
                     className="mt-0"
                   />
+                  )}
                   {errors[k] ? <p role="alert" className="mt-1 text-sm font-bold text-rust-ink">{errors[k]}</p> : null}
                 </div>
                 <div id={`${id}-source`} className="text-xs text-ink-soft">
-                  <span className="font-bold text-ink">Default {defaults[k]}</span>{" "}
+                  <span className="font-bold text-ink">Default {typeof group.defaults[k] === "boolean" ? (group.defaults[k] ? "on" : "off") : defaults[k]}</span>{" "}
                   <Tag tone={f.basis === "published" ? "info" : "neutral"}>{f.basis}</Tag>
                   <p className="mt-1">{f.source}</p>
                   {canWrite && values[k] !== defaults[k] ? (

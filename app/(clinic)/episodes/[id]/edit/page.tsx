@@ -5,7 +5,7 @@ import { db } from "@/db/knex";
 import { getEpisode } from "@/db/episodes";
 import { getPatient } from "@/db/patients";
 import { listClinicians } from "@/db/users";
-import { getProtocols } from "@/lib/settings";
+import { getProtocols } from "@/lib/settings-registry";
 import { isUuid, orNotFound } from "@/lib/pages";
 import { PageTitle } from "@/components/ui/card";
 import { EpisodeForm } from "../../episode-form";

@@ -4,7 +4,7 @@ import { requireUser } from "@/lib/auth/session";
 import { db } from "@/db/knex";
 import { getPatient } from "@/db/patients";
 import { listClinicians } from "@/db/users";
-import { getProtocols } from "@/lib/settings";
+import { getProtocols } from "@/lib/settings-registry";
 import { isUuid, orNotFound } from "@/lib/pages";
 import { PageTitle } from "@/components/ui/card";
 import { EpisodeForm } from "../../../../episodes/episode-form";

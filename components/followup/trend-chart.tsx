@@ -37,6 +37,7 @@ export function TrendChart({ data }: { data: TrendData }) {
   const xMin = Math.floor(Math.min(...days));
   const xMax = Math.ceil(Math.max(...days)) + 1;
   const yMax = Math.min(100, Math.max(20, ...methods.flatMap((m) => data.series[m].map((p) => p.percent)), ...data.band.map((b) => b.upper)) + 5);
+  const yTop = Math.ceil(yMax / 10) * 10;
   const bandData = data.band.map((b) => ({ day: b.day, expected: b.expected, range: [b.lower, b.upper] as [number, number] }));
 
   const dot = (method: Method) =>
@@ -90,12 +91,13 @@ export function TrendChart({ data }: { data: TrendData }) {
             />
             <YAxis
               type="number"
-              domain={[0, Math.ceil(yMax / 10) * 10]}
+              domain={[0, yTop]}
+              ticks={Array.from({ length: yTop / 10 + 1 }, (_, i) => i * 10)}
               tick={{ fontSize: 12, fill: "#4f5860" }}
               label={{ value: "% of hemithorax", angle: -90, position: "insideLeft", offset: 14, fill: "#4f5860", fontSize: 12 }}
             />
             {bandData.length > 0 ? (
-              <Area data={bandData} dataKey="range" type="linear" stroke="none" fill="#cfe6e6" fillOpacity={0.8} isAnimationActive={false} name="Band" />
+              <Area data={bandData} dataKey="range" type="linear" stroke="none" fill="#cfe6e6" fillOpacity={0.8} dot={false} activeDot={false} isAnimationActive={false} name="Band" />
             ) : null}
             {bandData.length > 0 ? (
               <Line data={bandData} dataKey="expected" type="linear" stroke="#4f5860" strokeDasharray="6 4" strokeWidth={1.5} dot={false} activeDot={false} isAnimationActive={false} name="Expected" />

@@ -64,7 +64,7 @@ export function figuresSummary(rule: string, f: Record<string, unknown>): string
     case "large-by-guideline":
       return `${typeof f.guideline === "string" ? f.guideline : "Guideline"}: ${n(f.valueCm)} cm (large from ${n(f.thresholdCm)} cm)`;
     case "methods-disagree":
-      return `Light ${n(f.light)} %, Rhea ${n(f.rhea)} %, Collins ${n(f.collins)} %: spread ${n(f.spreadPoints)} points`;
+      return `Day ${n(f.dayIndex)}: Light ${n(f.light)} %, Rhea ${n(f.rhea)} %, Collins ${n(f.collins)} %, spread ${n(f.spreadPoints)} points`;
     case "overdue":
       return `Due day ${n(f.dueDay)}, ${n(f.daysLate)} days late`;
     case "unresolved-by-prediction":

@@ -1,6 +1,8 @@
 // Benchmark floor for bench/trend-api.ts: a bare route handler that answers with bytes it was given once.
 // Exists only when the server runs with RIMWATCH_BENCH=1; otherwise every method answers 404 like any unknown route.
 // It holds no patient data of its own and reaches no database.
+export const dynamic = "force-dynamic";
+
 const enabled = () => process.env.RIMWATCH_BENCH === "1";
 const MAX_BYTES = 5 * 1024 * 1024;
 const store = globalThis as unknown as { rimwatchBenchEcho?: Uint8Array };

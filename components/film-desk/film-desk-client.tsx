@@ -5,7 +5,7 @@ import dynamic from "next/dynamic";
 import { useCallback, useDeferredValue, useEffect, useMemo, useReducer, useRef, useState } from "react";
 import { caliperNames, estimateFromCalipers, type CaliperName, type CaliperSet, type Plane } from "@/measure";
 import { ApiError, fetchJson } from "@/lib/client/api";
-import { type MeasurementView, type ReaderChain } from "@/lib/validation/measurements";
+import { CALIPER_LABELS, type MeasurementView, type ReaderChain } from "@/lib/validation/measurements";
 import { formatDateTime } from "@/lib/format";
 import { Button } from "@/components/ui/button";
 import { Tag } from "@/components/ui/card";
@@ -360,6 +360,11 @@ export function FilmDeskClient({ film, side, user, initial }: Props) {
               onImageState={setImageState}
             />
           ) : null}
+          <p className="sr-only" aria-live="polite">
+            {selected && present.calipers[selected.name]
+              ? `Selected: ${CALIPER_LABELS[selected.name]}, ${selected.end === "a" ? "first" : "second"} end, at column ${Math.round(present.calipers[selected.name]?.[selected.end].x ?? 0)}, row ${Math.round(present.calipers[selected.name]?.[selected.end].y ?? 0)}; ${labels[selected.name]}.`
+              : ""}
+          </p>
           {imageState === "error" ? (
             <p role="alert" className="absolute inset-x-0 top-1/3 text-center text-sm text-rust-wash">
               The film could not be loaded. Reload the page; if it happens again, the stored image may be missing.
@@ -374,10 +379,12 @@ export function FilmDeskClient({ film, side, user, initial }: Props) {
       </section>
 
       <aside className="space-y-4" aria-label="Caliper set and figures">
-        <section className="rounded-lg border border-line bg-card p-4">
-          <h2 className="mb-2 text-base font-bold text-estuary-900">Caliper set</h2>
-          <CaliperGuide side={side} next={armed} states={states} lengths={labels} canMeasure={user.canMeasure && !film.withdrawn} onArm={arm} onSkip={skip} onClear={clear} />
-        </section>
+        {user.canMeasure && !film.withdrawn ? (
+          <section className="rounded-lg border border-line bg-card p-4">
+            <h2 className="mb-2 text-base font-bold text-estuary-900">Caliper set</h2>
+            <CaliperGuide side={side} next={armed} states={states} lengths={labels} canMeasure onArm={arm} onSkip={skip} onClear={clear} />
+          </section>
+        ) : null}
 
         <section className="rounded-lg border border-line bg-card p-4">
           <Estimates

@@ -13,6 +13,7 @@ import type { Actor } from "@/db/types";
 import { notFound } from "@/lib/errors";
 import { readDeviationSettings } from "@/lib/settings-registry";
 import { draftsFromDeviations, reconcile, type StoredLiveFlag } from "./reconcile";
+import { ENGINE_RULES, LIVE_STATES } from "./rules";
 import { loadEpisodeSeries, toPlan, toSeries } from "./series";
 
 export interface EvaluationResult {
@@ -113,18 +114,24 @@ export interface SweepSummary {
 }
 
 /**
- * The nightly run: evaluates every active episode, each in its own transaction so that one bad record
+ * The nightly run: evaluates every active episode (and any other with a live flag), each in its own transaction so that one bad record
  * does not stop the rest. Idempotent: a second run at the same `now` changes nothing.
  */
 export async function sweepFlags(now: Date, opts: { knex?: Knex; teamId?: string } = {}): Promise<SweepSummary> {
   const knex = opts.knex ?? db();
-  const ids = (await knex("episodes")
-    .where({ status: "active" })
-    .modify((q) => {
-      if (opts.teamId) q.where({ team_id: opts.teamId });
+  // Active episodes, and any other episode that still has a live flag of the engine's rules (a resolved or
+  // closed episode's findings are then superseded, not left on the board).
+  const ids = (await knex("episodes as e")
+    .where((w) => {
+      void w.where("e.status", "active").orWhereExists(
+        knex("flags as f").select(knex.raw("1")).whereRaw("f.episode_id = e.id").whereIn("f.state", LIVE_STATES).whereIn("f.rule", ENGINE_RULES),
+      );
     })
-    .orderBy("id")
-    .pluck("id")) as string[];
+    .modify((q) => {
+      if (opts.teamId) void q.where("e.team_id", opts.teamId);
+    })
+    .orderBy("e.id")
+    .pluck("e.id")) as string[];
   const summary: SweepSummary = { episodes: ids.length, raised: 0, updated: 0, superseded: 0, failed: [] };
   for (const id of ids) {
     try {

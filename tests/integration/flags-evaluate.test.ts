@@ -110,7 +110,7 @@ describe("a saved measurement and the flags it raises", () => {
 });
 
 describe("the nightly sweep", () => {
-  it("raises the overdue flag for a booked film not taken, once", async () => {
+  it("raises the overdue flag for a booked film not taken, once, and supersedes it when the episode is resolved", async () => {
     const other = await makeTeam("flags-sweep");
     const patient = await makePatient(other);
     const ep = (await makeEpisode(other, patient.id)).id;
@@ -126,5 +126,13 @@ describe("the nightly sweep", () => {
     const flags = await flagsOf(ep);
     expect(flags.map((f) => [f.rule, f.state])).toEqual([["overdue", "open"]]);
     expect(flags[0]!.figures.daysLate).toBeCloseTo(5, 6);
+
+    // Once the episode is marked resolved, the next sweep still reaches it and supersedes the flag (the rule no longer applies).
+    await testDb()("episodes").where({ id: ep }).update({ status: "resolved", resolved_on: now.toISOString().slice(0, 10) });
+    const third = await sweepFlags(now, { knex: testDb(), teamId: other.id });
+    expect(third.episodes).toBe(1);
+    expect(third.superseded).toBe(1);
+    expect((await flagsOf(ep)).map((f) => f.state)).toEqual(["superseded"]);
+    expect((await sweepFlags(now, { knex: testDb(), teamId: other.id })).episodes).toBe(0);
   });
 });

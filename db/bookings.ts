@@ -91,7 +91,7 @@ export async function createBooking(trx: Trx, actor: Actor, input: BookingCreate
   const at = new Date(input.scheduledAt);
   checkTime("scheduledAt", at, now);
   if (input.flagId) {
-    const flag = (await trx("flags").where({ id: input.flagId, episode_id: episode.id, team_id: actor.teamId }).first("id")) as { id: string } | undefined;
+    const flag = await trx("flags").where({ id: input.flagId, episode_id: episode.id, team_id: actor.teamId }).first<{ id: string } | undefined>("id");
     if (!flag) throw new AppError("invalid", "That flag does not belong to this episode.", { fields: { flagId: "Not a flag of this episode" } });
   }
   const ahead = (await trx("bookings")
@@ -105,7 +105,7 @@ export async function createBooking(trx: Trx, actor: Actor, input: BookingCreate
       details: { bookingId: ahead.id, version: ahead.version },
     });
   }
-  const [row] = (await trx("bookings")
+  const [row] = await trx("bookings")
     .insert({
       episode_id: episode.id,
       team_id: actor.teamId,
@@ -119,7 +119,7 @@ export async function createBooking(trx: Trx, actor: Actor, input: BookingCreate
       state: "booked",
       created_by: actor.id,
     })
-    .returning(BOOKING_COLUMNS)) as BookingRow[];
+    .returning<BookingRow[]>(BOOKING_COLUMNS);
   if (!row) throw new Error("booking not inserted");
   await writeAudit(trx, { actorId: actor.id, teamId: actor.teamId, action: "booking.create", entity: "booking", entityId: row.id, after: row });
   const message = await recordBookingMessage(trx, actor.id, row.id, "booking-confirmation", now);
@@ -159,7 +159,7 @@ export async function changeBooking(trx: Trx, actor: Actor, id: string, patch: B
       update = { ...base, state: patch.action };
       break;
   }
-  const [row] = (await trx("bookings").where({ id, team_id: actor.teamId, version: patch.version }).update(update).returning(BOOKING_COLUMNS)) as BookingRow[];
+  const [row] = await trx("bookings").where({ id, team_id: actor.teamId, version: patch.version }).update(update).returning<BookingRow[]>(BOOKING_COLUMNS);
   if (!row) throw new AppError("conflict", STALE);
   await writeAudit(trx, {
     actorId: actor.id,
@@ -243,9 +243,9 @@ const patientOf = (p: PatientFacts): WorklistPatient => ({
 
 /** The place new bookings default to: the team's last used location, else the hospital's X-ray department. */
 export async function defaultLocation(trx: Trx, teamId: string): Promise<string> {
-  const last = (await trx("bookings").where({ team_id: teamId }).whereNotNull("location").orderBy("created_at", "desc").first("location")) as { location: string } | undefined;
+  const last = await trx("bookings").where({ team_id: teamId }).whereNotNull("location").orderBy("created_at", "desc").first<{ location: string } | undefined>("location");
   if (last) return last.location;
-  const team = (await trx("teams").where({ id: teamId }).first("hospital")) as { hospital: string } | undefined;
+  const team = await trx("teams").where({ id: teamId }).first<{ hospital: string } | undefined>("hospital");
   return `X-ray department, ${team?.hospital ?? "main hospital"}`;
 }
 
@@ -365,23 +365,26 @@ export async function getWorklist(trx: Trx, teamId: string, now: Date): Promise<
       .select("e.id", "e.side", "e.management", "e.presented_on", "p.id as patient_id", "p.given_name", "p.family_name", "p.hospital_number", "p.email", "p.email_consent")
       .orderBy("e.presented_on")
       .limit(300) as Promise<(PatientFacts & { id: string; side: string; management: string; presented_on: string; patient_id: string })[]>,
-    bookingsWithPatients(trx, teamId, (q) => q.where("b.state", "booked").where("b.scheduled_at", ">=", startOfToday), "asc", 200),
+    bookingsWithPatients(trx, teamId, (q) => void q.where("b.state", "booked").where("b.scheduled_at", ">=", startOfToday), "asc", 200),
     bookingsWithPatients(
       trx,
       teamId,
       (q) =>
-        q
-          .where((w) => w.where((x) => x.where("b.state", "booked").where("b.scheduled_at", "<", startOfToday)).orWhere("b.state", "missed"))
+        void q
+          .where((w) => {
+            w.where((x) => {
+              x.where("b.state", "booked").where("b.scheduled_at", "<", startOfToday);
+            }).orWhere("b.state", "missed");
+          })
           .where("e.status", "active")
           // a missed film that has since been rebooked (a later booking not cancelled) has been dealt with
-          .whereNotExists((s) =>
-            s
-              .from("bookings as later")
+          .whereNotExists((s) => {
+            s.from("bookings as later")
               .whereRaw("later.episode_id = b.episode_id")
               .whereRaw("later.created_at > b.updated_at")
               .whereIn("later.state", ["booked", "attended"])
-              .whereRaw("b.state = 'missed'"),
-          ),
+              .whereRaw("b.state = 'missed'");
+          }),
       "desc",
       200,
     ),
@@ -415,7 +418,7 @@ export async function getEpisodeDiary(trx: Trx, teamId: string, episodeId: strin
   await getEpisode(trx, teamId, episodeId);
   const today = clinicDate(now);
   const startOfToday = clinicWallTimeToUtc(today, "00:00");
-  const rows = await bookingsWithPatients(trx, teamId, (q) => q.where("b.episode_id", episodeId), "desc", 100);
+  const rows = await bookingsWithPatients(trx, teamId, (q) => void q.where("b.episode_id", episodeId), "desc", 100);
   const [proposals, messages, location] = await Promise.all([
     proposalsFor(trx, teamId, [episodeId], now),
     latestMessageByBooking(trx, teamId, rows.map((r) => r.id)),

@@ -58,7 +58,7 @@ export const dedupeKeys = {
  * change that caused it.
  */
 export async function recordMessage(trx: Trx, actorId: string | null, m: NewMessage): Promise<MessageRow | null> {
-  const [row] = (await trx("messages")
+  const [row] = await trx("messages")
     .insert({
       team_id: m.teamId,
       episode_id: m.episodeId,
@@ -74,7 +74,7 @@ export async function recordMessage(trx: Trx, actorId: string | null, m: NewMess
     })
     .onConflict("dedupe_key")
     .ignore()
-    .returning(MESSAGE_COLUMNS)) as MessageRow[];
+    .returning<MessageRow[]>(MESSAGE_COLUMNS);
   if (!row) return null;
   await writeAudit(trx, {
     actorId,
@@ -108,7 +108,7 @@ export async function recordAttempt(trx: Trx, before: MessageRow, outcome: Messa
       : outcome.status === "skipped"
         ? { status: "skipped", last_error: outcome.reason }
         : { status: outcome.status, attempts: counted, last_error: outcome.error };
-  const [row] = (await trx("messages").where({ id: before.id }).update(patch).returning(MESSAGE_COLUMNS)) as MessageRow[];
+  const [row] = await trx("messages").where({ id: before.id }).update(patch).returning<MessageRow[]>(MESSAGE_COLUMNS);
   if (!row) throw new Error("message vanished while sending");
   await writeAudit(trx, {
     actorId: null,

@@ -7,17 +7,30 @@ export const CLINIC_TIME_ZONE = (typeof process !== "undefined" ? process.env.CL
 const DATE_RE = /^(\d{4})-(\d{2})-(\d{2})$/;
 const TIME_RE = /^([01]\d|2[0-3]):([0-5]\d)$/;
 
+// Intl formatters are costly to build: one per zone (and style), kept.
+const formatters = new Map<string, Intl.DateTimeFormat>();
+function formatter(key: string, make: () => Intl.DateTimeFormat): Intl.DateTimeFormat {
+  let f = formatters.get(key);
+  if (!f) {
+    f = make();
+    formatters.set(key, f);
+  }
+  return f;
+}
+
 function parts(at: Date, timeZone: string) {
-  const f = new Intl.DateTimeFormat("en-GB", {
-    timeZone,
-    year: "numeric",
-    month: "2-digit",
-    day: "2-digit",
-    hour: "2-digit",
-    minute: "2-digit",
-    second: "2-digit",
-    hourCycle: "h23",
-  });
+  const f = formatter(`parts:${timeZone}`, () =>
+    new Intl.DateTimeFormat("en-GB", {
+      timeZone,
+      year: "numeric",
+      month: "2-digit",
+      day: "2-digit",
+      hour: "2-digit",
+      minute: "2-digit",
+      second: "2-digit",
+      hourCycle: "h23",
+    }),
+  );
   const out: Record<string, number> = {};
   for (const p of f.formatToParts(at)) if (p.type !== "literal") out[p.type] = Number(p.value);
   return { y: out.year ?? 0, mo: out.month ?? 0, d: out.day ?? 0, h: out.hour ?? 0, mi: out.minute ?? 0, s: out.second ?? 0 };
@@ -64,6 +77,15 @@ export function addDays(date: string, days: number): string {
   return new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3])) + days * 86_400_000).toISOString().slice(0, 10);
 }
 
+const MONTHS = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"];
+
+/** "20 Nov 2026" for a YYYY-MM-DD date (the calendar date as written, no zone involved). */
+export function dateWords(date: string): string {
+  const m = DATE_RE.exec(date);
+  if (!m) throw new RangeError(`Not a date: ${date}`);
+  return `${Number(m[3])} ${MONTHS[Number(m[2]) - 1]} ${m[1]}`;
+}
+
 /** Whole days from date a to date b (b - a). */
 export function daysBetween(a: string, b: string): number {
   const ma = DATE_RE.exec(a);
@@ -84,7 +106,7 @@ export function shortDayWords(at: Date, timeZone = CLINIC_TIME_ZONE): string {
 
 // Built from parts so that the wording does not depend on the ICU version's punctuation.
 function dayWords(at: Date, style: "long" | "short", timeZone: string): string {
-  const f = new Intl.DateTimeFormat("en-GB", { weekday: style, day: "numeric", month: style, ...(style === "long" ? { year: "numeric" } : {}), timeZone });
+  const f = formatter(`day:${style}:${timeZone}`, () => new Intl.DateTimeFormat("en-GB", { weekday: style, day: "numeric", month: style, ...(style === "long" ? { year: "numeric" } : {}), timeZone }));
   const p: Record<string, string> = {};
   for (const x of f.formatToParts(at)) if (x.type !== "literal") p[x.type] = x.value;
   return [p.weekday, p.day, p.month, p.year].filter(Boolean).join(" ");

@@ -1,8 +1,7 @@
 // Booking proposals of the follow-up diary: when an episode's next film should be, and why.
 // `proposeBookings` is pure (dates and `today` passed in); `loadProposalInputs` gathers its inputs.
 import type { FollowUpProtocol } from "@/lib/settings-registry";
-import { addDays, daysBetween } from "@/lib/clinic-time";
-import { formatDate } from "@/lib/format";
+import { addDays, dateWords, daysBetween } from "@/lib/clinic-time";
 
 export interface ProposalEpisode {
   id: string;
@@ -122,23 +121,23 @@ const maxDate = (a: string, b: string) => (a > b ? a : b);
 
 function anchorOf(p: FollowUpProtocol, i: ProposalInputs): { on: string; words: string; fallback: boolean } | null {
   const e = i.episode;
-  const presentation = { on: e.presentedOn, words: `presentation on ${formatDate(e.presentedOn)}`, fallback: false };
+  const presentation = { on: e.presentedOn, words: `presentation on ${dateWords(e.presentedOn)}`, fallback: false };
   switch (p.anchor) {
     case "presentation":
       return presentation;
     case "discharge":
       return e.dischargedOn
-        ? { on: e.dischargedOn, words: `discharge on ${formatDate(e.dischargedOn)}`, fallback: false }
-        : { ...presentation, words: `presentation on ${formatDate(e.presentedOn)}, as no discharge date is recorded`, fallback: true };
+        ? { on: e.dischargedOn, words: `discharge on ${dateWords(e.dischargedOn)}`, fallback: false }
+        : { ...presentation, words: `presentation on ${dateWords(e.presentedOn)}, as no discharge date is recorded`, fallback: true };
     case "aspiration":
       return i.aspirationOn
-        ? { on: i.aspirationOn, words: `aspiration on ${formatDate(i.aspirationOn)}`, fallback: false }
-        : { ...presentation, words: `presentation on ${formatDate(e.presentedOn)}, as no aspiration is recorded`, fallback: true };
+        ? { on: i.aspirationOn, words: `aspiration on ${dateWords(i.aspirationOn)}`, fallback: false }
+        : { ...presentation, words: `presentation on ${dateWords(e.presentedOn)}, as no aspiration is recorded`, fallback: true };
     case "drain-removal":
       if (i.drainInPlace) return null;
       return i.drainRemovedOn
-        ? { on: i.drainRemovedOn, words: `drain removal on ${formatDate(i.drainRemovedOn)}`, fallback: false }
-        : { ...presentation, words: `presentation on ${formatDate(e.presentedOn)}, as no drain removal is recorded`, fallback: true };
+        ? { on: i.drainRemovedOn, words: `drain removal on ${dateWords(i.drainRemovedOn)}`, fallback: false }
+        : { ...presentation, words: `presentation on ${dateWords(e.presentedOn)}, as no drain removal is recorded`, fallback: true };
   }
 }
 
@@ -199,7 +198,7 @@ export function proposeBookings(i: ProposalInputs, settings: ProposalSettings = 
         source: latest.source,
         flagId: null,
         dueOn: addDays(i.today, 1),
-        reason: `The film booked for ${formatDate(latest.scheduledOn)} was missed: book it again and let the patient know.`,
+        reason: `The film booked for ${dateWords(latest.scheduledOn)} was missed: book it again and let the patient know.`,
         basis: "Follow-up diary: missed film",
         moves: null,
       }),
@@ -250,7 +249,7 @@ export function proposeBookings(i: ProposalInputs, settings: ProposalSettings = 
           source: "manual",
           flagId: null,
           dueOn: predicted,
-          reason: `A film to confirm resolution on the predicted date (${formatDate(predicted)}).`,
+          reason: `A film to confirm resolution on the predicted date (${dateWords(predicted)}).`,
           basis: "Resorption chart: predicted resolution (1.25 %/day, Kircher & Swartzel 1954; x4 on oxygen, Northfield 1971)",
           moves: null,
         }),

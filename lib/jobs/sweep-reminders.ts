@@ -25,11 +25,11 @@ export async function sweepReminders(now: Date, opts: { enqueue?: (ids: readonly
   const k = db();
   const { reminderLeadHours } = await readDiarySettings(k);
   const until = new Date(now.getTime() + reminderLeadHours * 3_600_000);
-  const rows = (await k("bookings")
+  const rows = await k("bookings")
     .where({ state: "booked" })
     .where("scheduled_at", ">", now)
     .where("scheduled_at", "<=", until)
-    .select("id", "state", "scheduled_at", "updated_at")) as { id: string; state: ReminderCandidate["state"]; scheduled_at: Date; updated_at: Date }[];
+    .select<{ id: string; state: ReminderCandidate["state"]; scheduled_at: Date; updated_at: Date }[]>("id", "state", "scheduled_at", "updated_at");
   const due = dueReminders(
     rows.map((r) => ({ bookingId: r.id, state: r.state, scheduledAt: r.scheduled_at, confirmedAt: r.updated_at })),
     now,

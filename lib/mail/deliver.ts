@@ -27,14 +27,13 @@ async function prepare(trx: Trx, m: MessageRow, now: Date): Promise<Prepared> {
   const settings = await readDiarySettings(trx);
   if (m.template === "flag-notice") {
     if (!m.flag_id) return { skip: "The notice has no flag." };
-    const row = (await trx("flags as f")
+    type FlagFacts = { rule: string; state: string; episode_id: string; email: string | null; notify_on_flag: boolean | null; disabled_at: Date | null; hospital: string };
+    const row = await trx("flags as f")
       .join("episodes as e", "e.id", "f.episode_id")
       .leftJoin("users as u", "u.id", "e.consultant_id")
       .join("teams as t", "t.id", "f.team_id")
       .where("f.id", m.flag_id)
-      .first("f.rule", "f.state", "f.episode_id", "u.email", "u.notify_on_flag", "u.disabled_at", "t.hospital")) as
-      | { rule: string; state: string; episode_id: string; email: string | null; notify_on_flag: boolean | null; disabled_at: Date | null; hospital: string }
-      | undefined;
+      .first<FlagFacts | undefined>("f.rule", "f.state", "f.episode_id", "u.email", "u.notify_on_flag", "u.disabled_at", "t.hospital");
     if (!row) return { skip: "The flag no longer exists." };
     if (row.state !== "open" && row.state !== "acknowledged") return { skip: "The flag was dealt with before the notice went out." };
     if (!row.email || !row.notify_on_flag || row.disabled_at) return { skip: "The consultant no longer receives flag e-mails." };

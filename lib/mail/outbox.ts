@@ -30,20 +30,19 @@ export interface BookingMailFacts {
 
 /** Everything a booking message needs, read in one query. */
 export async function loadBookingMailFacts(trx: Trx, bookingId: string): Promise<BookingMailFacts | null> {
-  const row = (await trx("bookings as b")
+  type Facts = {
+    id: string; team_id: string; episode_id: string; kind: BookingMailFacts["kind"]; state: BookingMailFacts["state"]; scheduled_at: Date;
+    location: string | null; version: number; updated_at: Date; given_name: string; email: string | null; email_consent: boolean; team_name: string; hospital: string;
+  };
+  const row = await trx("bookings as b")
     .join("episodes as e", "e.id", "b.episode_id")
     .join("patients as p", "p.id", "e.patient_id")
     .join("teams as t", "t.id", "b.team_id")
     .where("b.id", bookingId)
-    .first(
+    .first<Facts | undefined>(
       "b.id", "b.team_id", "b.episode_id", "b.kind", "b.state", "b.scheduled_at", "b.location", "b.version", "b.updated_at",
       "p.given_name", "p.email", "p.email_consent", "t.name as team_name", "t.hospital",
-    )) as
-    | {
-        id: string; team_id: string; episode_id: string; kind: BookingMailFacts["kind"]; state: BookingMailFacts["state"]; scheduled_at: Date;
-        location: string | null; version: number; updated_at: Date; given_name: string; email: string | null; email_consent: boolean; team_name: string; hospital: string;
-      }
-    | undefined;
+    );
   if (!row) return null;
   return {
     bookingId: row.id,
@@ -138,12 +137,12 @@ export function publicBaseUrl(): string {
  * null when the consultant has not opted in, is disabled, or was already told about this flag.
  */
 export async function queueFlagNotice(trx: Trx, flag: FlagForNotice): Promise<MessageRow | null> {
-  const consultant = (await trx("episodes as e")
+  const consultant = await trx("episodes as e")
     .join("users as u", "u.id", "e.consultant_id")
     .join("teams as t", "t.id", "e.team_id")
     .where({ "e.id": flag.episode_id, "e.team_id": flag.team_id, "u.notify_on_flag": true })
     .whereNull("u.disabled_at")
-    .first("u.id", "u.email", "t.hospital")) as { id: string; email: string; hospital: string } | undefined;
+    .first<{ id: string; email: string; hospital: string } | undefined>("u.id", "u.email", "t.hospital");
   if (!consultant) return null;
   const settings = await readDiarySettings(trx);
   const decision = decideStaffRecipient(consultant.email, settings.mailEnabled);

@@ -56,7 +56,7 @@ test("the nurse books a proposed repeat film and sees the confirmation in the se
   await expect(booked).toContainText("14:15");
   await expect(booked).toContainText("ground floor");
 
-  const row = await testDb()("bookings").where({ episode_id: episodeId, state: "booked" }).first<{ scheduled_at: Date }>();
+  const row = await testDb()("bookings").where({ episode_id: episodeId, state: "booked" }).first<{ scheduled_at: Date } | undefined>();
   expect(row).toBeDefined();
   expect(clinicDate(row!.scheduled_at)).toBe(due);
 

@@ -136,7 +136,7 @@ describe("the worklist and booking a proposal", () => {
     expect(res.status).toBe(200);
     expect(res.headers.get("content-type")).toMatch(/^text\/calendar/);
     const ics = await res.text();
-    const row = await testDb()("bookings").where({ id: bookingId }).first<{ scheduled_at: Date }>();
+    const row = await testDb()("bookings").where({ id: bookingId }).first<{ scheduled_at: Date } | undefined>();
     // RFC 5545: DTSTART in UTC; SEQUENCE follows the booking's version (moved once: 2)
     expect(icsEvent(ics).DTSTART).toBe(row!.scheduled_at.toISOString().replace(/[-:]/g, "").replace(/\.\d{3}/, ""));
     expect(icsEvent(ics).SEQUENCE).toBe("2");
@@ -174,7 +174,7 @@ describe("a missed film", () => {
     expect(body.booking.state).toBe("missed");
     // overdue: the planned film is more than the 1-day grace late (common practice default setting)
     expect(body.flagsRaised?.map((f) => f.rule)).toContain("overdue");
-    const flag = await testDb()("flags").where({ episode_id: e.id, rule: "overdue", state: "open" }).first<{ id: string }>();
+    const flag = await testDb()("flags").where({ episode_id: e.id, rule: "overdue", state: "open" }).first<{ id: string } | undefined>();
     expect(flag).toBeDefined();
     expect(await count("audit_log", { entity: "booking", entity_id: b!.id, action: "booking.missed" })).toBe(1);
     const notice = await testDb()("messages").where({ flag_id: flag!.id, template: "flag-notice" }).first<{ recipient: string; status: string }>();

@@ -119,7 +119,7 @@ describe("reminder sweep", () => {
     // 48 h lead time (common practice, the default setting): due from at - 48 h; sweep as if 24 h before
     // (other tests' bookings share the database, so only this booking's messages are looked at)
     await sweepReminders(new Date(at.getTime() - 72 * 3_600_000));
-    const reminders = () => testDb()("messages").where({ booking_id: booking.id, template: "booking-reminder" }).select("id", "status");
+    const reminders = () => testDb()("messages").where({ booking_id: booking.id, template: "booking-reminder" }).select<{ id: string; status: string }[]>("id", "status");
     expect(await reminders()).toHaveLength(0);
 
     const now = new Date(at.getTime() - 24 * 3_600_000);

@@ -7,7 +7,7 @@ import { uuid } from "@/lib/validation/common";
 
 export const GET = apiRoute<{ id: string }>("booking.read", async ({ user, params }) => {
   const b = await getBooking(db(), user.teamId, uuid.parse(params.id));
-  const team = (await db()("teams").where({ id: user.teamId }).first("name", "hospital")) as { name: string; hospital: string } | undefined;
+  const team = await db()("teams").where({ id: user.teamId }).first<{ name: string; hospital: string } | undefined>("name", "hospital");
   const ics = bookingIcs({
     bookingId: b.id,
     version: b.version,

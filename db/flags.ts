@@ -202,8 +202,8 @@ export async function acknowledgeFlag(trx: Trx, actor: Actor, id: string): Promi
   return flag;
 }
 
-/** Resolves an open or acknowledged flag with a note and a plan. 409 when it is no longer live. */
-export async function resolveFlag(trx: Trx, actor: Actor, id: string, input: { note: string; plan: FlagPlan }): Promise<FlagRow> {
+/** Resolves an open or acknowledged flag with a note and, optionally, a plan. 409 when it is no longer live. */
+export async function resolveFlag(trx: Trx, actor: Actor, id: string, input: { note: string; plan?: FlagPlan | undefined }): Promise<FlagRow> {
   const before = await getFlag(trx, actor.teamId, id);
   const [row] = await trx("flags")
     .where({ id, team_id: actor.teamId })
@@ -213,7 +213,7 @@ export async function resolveFlag(trx: Trx, actor: Actor, id: string, input: { n
       resolved_by: actor.id,
       resolved_at: trx.fn.now(),
       resolution_note: input.note,
-      plan: JSON.stringify(input.plan),
+      plan: input.plan ? JSON.stringify(input.plan) : null,
       updated_at: trx.fn.now(),
     })
     .returning(FLAG_COLUMNS);

@@ -14,7 +14,7 @@ export function FlagActions({ flagId, state, label, onDone }: { flagId: string; 
   const [error, setError] = useState<string | null>(null);
   const [fields, setFields] = useState<Record<string, string>>({});
   const [note, setNote] = useState("");
-  const [kind, setKind] = useState<PlanKind>("repeat-film");
+  const [kind, setKind] = useState<PlanKind | "">("repeat-film");
   const [days, setDays] = useState("14");
   const [text, setText] = useState("");
 
@@ -38,12 +38,15 @@ export function FlagActions({ flagId, state, label, onDone }: { flagId: string; 
 
   const resolve = () => {
     const d = days.trim() === "" ? undefined : Number(days);
-    const plan = {
-      kind,
-      ...(kind === "repeat-film" && d !== undefined ? { days: Number.isFinite(d) ? d : -1 } : {}),
-      ...(text.trim() ? { text: text.trim() } : {}),
-    };
-    void send({ action: "resolve", note, plan }, `Resolved: ${label}.`);
+    const plan =
+      kind === ""
+        ? undefined
+        : {
+            kind,
+            ...(kind === "repeat-film" && d !== undefined ? { days: Number.isFinite(d) ? d : -1 } : {}),
+            ...(text.trim() ? { text: text.trim() } : {}),
+          };
+    void send({ action: "resolve", note, ...(plan ? { plan } : {}) }, `Resolved: ${label}.`);
   };
 
   if (!open) {
@@ -75,10 +78,11 @@ export function FlagActions({ flagId, state, label, onDone }: { flagId: string; 
         <TextArea id={`${id}-note`} rows={3} value={note} onChange={(e) => setNote(e.target.value)} invalid={!!fields.note} maxLength={2000} />
       </Field>
       <Field id={`${id}-plan`} label="Plan" error={fields["plan.kind"]}>
-        <Select id={`${id}-plan`} value={kind} onChange={(e) => setKind(e.target.value as PlanKind)}>
+        <Select id={`${id}-plan`} value={kind} onChange={(e) => setKind(e.target.value as PlanKind | "")}>
           {PLAN_KINDS.map((k) => (
             <option key={k} value={k}>{PLAN_LABELS[k]}</option>
           ))}
+          <option value="">No plan to record</option>
         </Select>
       </Field>
       {kind === "repeat-film" ? (
@@ -86,9 +90,11 @@ export function FlagActions({ flagId, state, label, onDone }: { flagId: string; 
           <TextInput id={`${id}-days`} type="number" inputMode="numeric" min={1} max={365} value={days} onChange={(e) => setDays(e.target.value)} invalid={!!fields["plan.days"]} />
         </Field>
       ) : null}
-      <Field id={`${id}-text`} label={kind === "other" ? "Describe the plan" : "Plan details (optional)"} error={fields["plan.text"]}>
-        <TextInput id={`${id}-text`} value={text} onChange={(e) => setText(e.target.value)} invalid={!!fields["plan.text"]} maxLength={500} />
-      </Field>
+      {kind !== "" ? (
+        <Field id={`${id}-text`} label={kind === "other" ? "Describe the plan" : "Plan details (optional)"} error={fields["plan.text"]}>
+          <TextInput id={`${id}-text`} value={text} onChange={(e) => setText(e.target.value)} invalid={!!fields["plan.text"]} maxLength={500} />
+        </Field>
+      ) : null}
       {error ? <p role="alert" className="text-sm font-bold text-rust-ink">{error}</p> : null}
       <div className="flex gap-2">
         <Button type="submit" disabled={busy}>{busy ? "Saving…" : "Resolve flag"}</Button>

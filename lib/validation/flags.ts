@@ -31,7 +31,8 @@ export const flagAction = z.discriminatedUnion(
     z.object({
       action: z.literal("resolve"),
       note: z.string({ message: "Write a note on the decision" }).trim().min(1, "Write a note on the decision").max(2000, "At most 2,000 characters"),
-      plan: flagPlan,
+      /** Optional: a decision can be recorded without a follow-up plan. */
+      plan: flagPlan.optional(),
     }),
   ],
   { message: "Say acknowledge or resolve" },

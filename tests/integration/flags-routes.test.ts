@@ -1,4 +1,5 @@
 // The follow-up routes by role: the deviation board's list, a consultant's decisions, the trend and the settings.
+import { randomUUID } from "node:crypto";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { defaultDeviationSettings } from "../../measure";
 import { closeTestDb, testDb } from "../support/db";
@@ -31,7 +32,7 @@ beforeAll(async () => {
   const film = await makeFilmAt(team, episodeId, daysAgo(now, 3));
   // a measurement row for the sparkline (invented figures)
   await testDb()("measurements").insert({
-    film_id: film, episode_id: episodeId, team_id: team.id, chain_id: "00000000-0000-4000-8000-000000000001", version: 1,
+    film_id: film, episode_id: episodeId, team_id: team.id, chain_id: randomUUID(), version: 1,
     reader_id: team.users.registrar.id, calipers: "{}", plane: "film", results: "{}", collins_percent: 28, created_by: team.users.registrar.id,
   });
   slowerFlag = await insertFlag("slower-than-expected");
@@ -186,5 +187,14 @@ describe("GET and PUT /api/settings", () => {
       // put the shared settings back for the other tests
       await c.admin.send("PUT", "/api/settings", { key: "deviationRules", values: { ...defaultDeviationSettings } });
     }
+  });
+});
+
+describe("a decision without a plan", () => {
+  it("is recorded with the note alone", async () => {
+    const res = await c.consultant.send("POST", `/api/flags/${disagreeFlag}`, { action: "resolve", note: "Calipers re-checked: the methods read differently on this film." });
+    expect(res.status).toBe(200);
+    const [row] = await testDb()("flags").where({ id: disagreeFlag }).select("state", "plan", "resolution_note");
+    expect(row).toEqual({ state: "resolved", plan: null, resolution_note: "Calipers re-checked: the methods read differently on this film." });
   });
 });

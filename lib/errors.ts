@@ -65,7 +65,7 @@ export function isServiceUnavailable(err: unknown): boolean {
   const e = err as { code?: unknown; name?: unknown; message?: unknown; cause?: unknown; errors?: unknown };
   if (typeof e.code === "string" && UNAVAILABLE_CODES.has(e.code)) return true;
   if (e.name === "StorageUnavailableError" || e.name === "KnexTimeoutError") return true;
-  if (typeof e.message === "string" && /Connection terminated|connect ECONNREFUSED|the database system is (starting|shutting) down|Timeout acquiring a connection/i.test(e.message)) return true;
+  if (typeof e.message === "string" && /Connection terminated|Connection ended unexpectedly|has encountered a connection error|connect ECONNREFUSED|terminating connection due to administrator command|the database system is (starting|shutting) down|Timeout acquiring a connection/i.test(e.message)) return true;
   if (Array.isArray(e.errors) && e.errors.some(isServiceUnavailable)) return true;
   return e.cause !== undefined && e.cause !== err && isServiceUnavailable(e.cause);
 }

@@ -3,8 +3,8 @@
  *
  * Prints (never asserts):
  *  1. time from navigation to the first caliper being placeable (the stage's data-desk-ready flag),
- *     against a floor measured in the same run: opening the same display image on its own, which is
- *     the transfer and decode no film desk can avoid;
+ *     against two floors measured in the same run: opening the same display image on its own (the
+ *     transfer and decode no film desk can avoid), and loading another clinic page of the app;
  *  2. frame intervals while a caliper is drawn and while one of its ends is dragged, against the
  *     floor of the same page receiving the same pointer moves with no button pressed;
  *  3. how often the film layer was redrawn during those drags (the design says never);
@@ -57,7 +57,8 @@ async function setUp(client: Client): Promise<string> {
     "episode",
   );
   const t0 = performance.now();
-  const png = await syntheticChestPng(syntheticChestFilm({ width: SIZE, height: SIZE }));
+  // With detector-like noise, so the PNG weighs what a real film's does.
+  const png = await syntheticChestPng(syntheticChestFilm({ width: SIZE, height: SIZE, noise: 60 }));
   console.log(`drew the ${SIZE} x ${SIZE} synthetic film (${(png.length / 1e6).toFixed(1)} MB PNG) in ${ms(performance.now() - t0)}`);
   const { film } = await json<{ film: { id: string; display: { width: number; height: number } } }>(
     await client.fetch(`/api/episodes/${episode.id}/films`, { method: "POST", headers: { "content-type": "image/png", "x-film-filename": "bench-3000.png" }, body: new Uint8Array(png) }),
@@ -78,11 +79,33 @@ async function newContext(browser: Browser, cookie: string): Promise<BrowserCont
   return ctx;
 }
 
-/** Milliseconds from navigation start until the desk says the first caliper can be placed. */
-async function deskReady(page: Page, filmId: string): Promise<number> {
+interface DeskTiming {
+  /** Navigation start to the first caliper being placeable. */
+  ready: number;
+  /** ... to the page's scripts having run (DOMContentLoaded end). */
+  scripts: number;
+  /** ... to the last byte of the film's display image. */
+  image: number;
+}
+
+/** Milliseconds from navigation start until the desk says the first caliper can be placed, with two waypoints. */
+async function deskReady(page: Page, filmId: string): Promise<DeskTiming> {
   await page.goto(`${base}/films/${filmId}`, { waitUntil: "commit" });
   await page.waitForSelector('[data-desk-ready="true"]', { timeout: 120_000 });
-  return page.evaluate(() => performance.now());
+  return page.evaluate(() => {
+    const nav = performance.getEntriesByType("navigation")[0] as PerformanceNavigationTiming | undefined;
+    const img = performance.getEntriesByType("resource").find((e) => e.name.includes("variant=display")) as PerformanceResourceTiming | undefined;
+    return { ready: performance.now(), scripts: nav?.domContentLoadedEventEnd ?? Number.NaN, image: img?.responseEnd ?? Number.NaN };
+  });
+}
+
+/** Second floor: another clinic page of the same app (the patient list), to its load event. */
+async function plainPage(page: Page): Promise<number> {
+  await page.goto(`${base}/patients`, { waitUntil: "load" });
+  return page.evaluate(() => {
+    const nav = performance.getEntriesByType("navigation")[0] as PerformanceNavigationTiming | undefined;
+    return nav ? nav.loadEventEnd : performance.now();
+  });
 }
 
 /** Floor: the same display image opened on its own, to its load event (bytes plus decode). */
@@ -96,16 +119,15 @@ async function imageAlone(page: Page, filmId: string): Promise<number> {
 
 /** Frame intervals (ms) recorded by requestAnimationFrame while `act` runs. */
 async function frames(page: Page, act: () => Promise<void>): Promise<number[]> {
-  await page.evaluate(() => {
-    const w = window as unknown as { __rec: boolean; __frames: number[] };
-    w.__rec = true;
-    w.__frames = [];
-    const tick = (t: number) => {
-      w.__frames.push(t);
-      if (w.__rec) requestAnimationFrame(tick);
-    };
+  // A string, so the bundler's helpers never leak into the page.
+  // One loop per recording (a generation number stops the previous one).
+  await page.evaluate(`(() => {
+    const gen = (window.__gen = (window.__gen || 0) + 1);
+    window.__rec = true;
+    window.__frames = [];
+    const tick = (t) => { if (window.__gen !== gen || !window.__rec) return; window.__frames.push(t); requestAnimationFrame(tick); };
     requestAnimationFrame(tick);
-  });
+  })()`);
   await act();
   const stamps = await page.evaluate(() => {
     const w = window as unknown as { __rec: boolean; __frames: number[] };
@@ -138,20 +160,26 @@ async function main() {
   const browser = await chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", args: CHROMIUM_ARGS });
   try {
     // 1. Navigation to a placeable first caliper, each run in a fresh context (cold cache); one warm-up.
-    const ready: number[] = [];
+    const desk: DeskTiming[] = [];
     const floor: number[] = [];
+    const plain: number[] = [];
     for (let run = 0; run <= RUNS; run += 1) {
       const a = await newContext(browser, client.cookie);
-      const desk = await deskReady(await a.newPage(), filmId);
+      const d = await deskReady(await a.newPage(), filmId);
       await a.close();
       const b = await newContext(browser, client.cookie);
       const img = await imageAlone(await b.newPage(), filmId);
       await b.close();
+      const c = await newContext(browser, client.cookie);
+      const p = await plainPage(await c.newPage());
+      await c.close();
       if (run > 0) {
-        ready.push(desk);
+        desk.push(d);
         floor.push(img);
+        plain.push(p);
       }
     }
+    const ready = desk.map((d) => d.ready);
 
     // 2-3. Frames while drawing a caliper and dragging its end, against hover moves as the floor.
     const ctx = await newContext(browser, client.cookie);
@@ -197,8 +225,10 @@ async function main() {
     const endP95 = quantile(endDrag, 0.95);
     console.log(`film ${SIZE} x ${SIZE}, ${RUNS} cold navigations`);
     console.log(`first caliper placeable: median ${ms(readyMed)} (runs ${ready.map((x) => x.toFixed(0)).join(", ")} ms)`);
+    console.log(`  of which: page scripts run by ${ms(median(desk.map((d) => d.scripts)))}, film image received by ${ms(median(desk.map((d) => d.image)))} (medians)`);
     console.log(`floor, the display image alone: median ${ms(floorMed)} (runs ${floor.map((x) => x.toFixed(0)).join(", ")} ms)`);
-    console.log(`ratio first-caliper-placeable / image alone: ${(readyMed / floorMed).toFixed(2)}`);
+    console.log(`floor, a clinic page without a film (patient list) to load: median ${ms(median(plain))}`);
+    console.log(`ratio first-caliper-placeable / image alone: ${(readyMed / floorMed).toFixed(2)}; / plain clinic page: ${(readyMed / median(plain)).toFixed(2)}`);
     console.log(`frame intervals, hover (floor): p50 ${ms(median(hover))}, p95 ${ms(hoverP95)}, max ${ms(Math.max(...hover))}, ${hover.length} frames`);
     console.log(`frame intervals, drawing a caliper: p50 ${ms(median(drawing))}, p95 ${ms(drawP95)}, max ${ms(Math.max(...drawing))}, ${drawing.length} frames`);
     console.log(`frame intervals, dragging a caliper end: p50 ${ms(median(endDrag))}, p95 ${ms(endP95)}, max ${ms(Math.max(...endDrag))}, ${endDrag.length} frames`);
@@ -212,7 +242,7 @@ async function main() {
     mkdirSync(dir, { recursive: true });
     writeFileSync(
       join(dir, "film-desk.json"),
-      JSON.stringify({ size: SIZE, runs: RUNS, readyMs: ready, imageAloneMs: floor, hover, drawing, endDrag, redraws, windowLevelMs: wl, overTarget: over }, null, 2),
+      JSON.stringify({ size: SIZE, runs: RUNS, desk, imageAloneMs: floor, plainPageMs: plain, hover, drawing, endDrag, redraws, windowLevelMs: wl, overTarget: over }, null, 2),
     );
   } finally {
     await browser.close();

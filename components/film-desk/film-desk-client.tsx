@@ -16,7 +16,12 @@ import { caliperKey, historyReducer, initHistory, nextCaliper, type DeskSnapshot
 import { fitView, zoomAt, ZOOM, type Size, type View } from "./view";
 import { IDENTITY_WINDOW, isIdentity, type WindowLevel } from "./window-level";
 
-const FilmStage = dynamic(() => import("./film-stage"), {
+const loadStage = () => import("./film-stage");
+// In the browser, start fetching the konva stage as soon as this module runs (during hydration),
+// rather than when the stage first renders; on the server konva is never loaded.
+if (typeof window !== "undefined") void loadStage();
+
+const FilmStage = dynamic(loadStage, {
   ssr: false,
   loading: () => <p className="p-6 text-sm text-estuary-100">Opening the film desk…</p>,
 });

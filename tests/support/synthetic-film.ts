@@ -61,8 +61,11 @@ export interface SyntheticFilm {
   calipers: Record<CaliperName, Segment>;
 }
 
-/** Draws the film. `scale` 1 gives 1,300 x 1,500; any size is scaled from that geometry (aspect may change). */
-export function syntheticChestFilm(opts: { width?: number; height?: number } = {}): SyntheticFilm {
+/**
+ * Draws the film: 1,300 x 1,500 by default; any size is scaled from that geometry (aspect may change).
+ * `noise` adds deterministic detector-like noise of that many stored values either way (default none).
+ */
+export function syntheticChestFilm(opts: { width?: number; height?: number; noise?: number } = {}): SyntheticFilm {
   const width = opts.width ?? 1300;
   const height = opts.height ?? 1500;
   const sx = width / 1300;
@@ -108,7 +111,16 @@ export function syntheticChestFilm(opts: { width?: number; height?: number } = {
   }
   const blurred = boxBlur(boxBlur(v, width, height, 2), width, height, 2);
   const values = new Uint16Array(width * height);
-  for (let i = 0; i < values.length; i += 1) values[i] = Math.max(0, Math.min(4095, Math.round(blurred[i] ?? 0)));
+  const noise = opts.noise ?? 0;
+  let seed = 20261202;
+  for (let i = 0; i < values.length; i += 1) {
+    let n = 0;
+    if (noise > 0) {
+      seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0; // LCG (Numerical Recipes constants)
+      n = ((seed >>> 8) / 0x1000000 - 0.5) * 2 * noise;
+    }
+    values[i] = Math.max(0, Math.min(4095, Math.round((blurred[i] ?? 0) + n)));
+  }
   const calipers = {} as Record<CaliperName, Segment>;
   for (const [name, s] of Object.entries(SYNTHETIC_CALIPERS) as [CaliperName, Segment][]) {
     calipers[name] = { a: { x: s.a.x * sx, y: s.a.y * sy }, b: { x: s.b.x * sx, y: s.b.y * sy } };

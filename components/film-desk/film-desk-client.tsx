@@ -340,7 +340,7 @@ export function FilmDeskClient({ film, side, user, initial }: Props) {
           data-view-scale={view?.scale}
           data-view-x={view?.x}
           data-view-y={view?.y}
-          className="relative h-[calc(100vh-13rem)] min-h-[480px] overflow-hidden rounded-lg bg-desk outline-offset-2"
+          className="relative h-[calc(100vh-13rem)] min-h-[480px] touch-none overflow-hidden rounded-lg bg-desk outline-offset-2"
         >
           {view && stageSize.width > 0 ? (
             <FilmStage

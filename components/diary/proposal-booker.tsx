@@ -103,7 +103,7 @@ export function ProposalBooker({
           <p className="text-xs text-ink-soft">Basis: {proposal.basis}</p>
         </div>
         {!open ? (
-          <Button onClick={() => setOpen(true)} aria-expanded={false} aria-controls={id}>
+          <Button onClick={() => setOpen(true)} aria-expanded={false}>
             {proposal.moves ? `Move the ${formatDate(proposal.moves.scheduledOn)} booking` : "Book this film"}
           </Button>
         ) : null}

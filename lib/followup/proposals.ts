@@ -145,7 +145,8 @@ function anchorOf(p: FollowUpProtocol, i: ProposalInputs): { on: string; words: 
  * Proposals for an episode's next booking, earliest first.
  * - Flags (overdue; slower than expected; unresolved by prediction) propose an earlier film, moving a
  *   later booked one rather than adding a second; that film is then the only proposal.
- * - Otherwise, when nothing is booked ahead: a film missed without a new booking is rebooked; the
+ * - Otherwise, when nothing is booked ahead and no past appointment waits to be marked attended or
+ *   missed: a film missed without a new booking is rebooked; the
  *   protocol's film (anchor date + days; BTS 2010 reviews at 2-4 weeks) unless already taken; and a
  *   film to confirm resolution on the predicted date when that is clearly later.
  */
@@ -187,6 +188,8 @@ export function proposeBookings(i: ProposalInputs, settings: ProposalSettings = 
   }
   // An earlier film asked for by a flag is the next film: nothing else is proposed beside it.
   if (nextBooked || out.length > 0) return out;
+  // A past appointment nobody has marked yet: mark it attended or missed first (it is listed under missed).
+  if (films.some((b) => b.state === "booked" && b.scheduledOn < i.today)) return out;
 
   // A missed film with nothing booked since: rebook (unless a flag proposal already asks for a film).
   const latest = [...films].filter((b) => b.state !== "cancelled").sort((a, b) => (a.scheduledOn < b.scheduledOn ? 1 : -1))[0];

@@ -5,7 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { closeTestDb, testDb } from "../support/db";
 import { makeEpisode, makePatient, makeTeam, TEST_PASSWORD, type TestTeam } from "../support/fixtures";
 import { anonymous, signIn, type Client } from "../support/http";
-import { icsEvent } from "../support/eml";
+import { icsEvent, mailsTo, waitFor } from "../support/eml";
 import { addDays, clinicDate } from "@/lib/clinic-time";
 
 let team: TestTeam;
@@ -177,8 +177,16 @@ describe("a missed film", () => {
     const flag = await testDb()("flags").where({ episode_id: e.id, rule: "overdue", state: "open" }).first<{ id: string } | undefined>();
     expect(flag).toBeDefined();
     expect(await count("audit_log", { entity: "booking", entity_id: b!.id, action: "booking.missed" })).toBe(1);
-    const notice = await testDb()("messages").where({ flag_id: flag!.id, template: "flag-notice" }).first<{ recipient: string; status: string }>();
+    const notice = await testDb()("messages").where({ flag_id: flag!.id, template: "flag-notice" }).first<{ id: string; recipient: string; status: string }>();
     expect(notice).toMatchObject({ recipient: team.users.consultant.email });
+    // queued once the booking's transaction committed; the app's mail worker sends it
+    await waitFor("the flag notice sent", async () => ((await testDb()("messages").where({ id: notice.id }).first<{ status: string }>())?.status === "sent" ? true : null));
+    const [mail] = mailsTo(team.users.consultant.email);
+    expect(mail?.subject).toMatch(/new flag on an episode you lead \(Repeat film overdue\)/);
+    const text = mail?.parts.map((p) => p.body).join("\n") ?? "";
+    expect(text).toContain(`/episodes/${e.id}`);
+    // no patient details in e-mail to staff
+    expect(text).not.toContain("Missedtest");
 
     const list = await worklist();
     expect(list.missed.find((m) => m.id === b!.id)?.state).toBe("missed");

@@ -128,6 +128,14 @@ describe("missed films and resolution checks", () => {
     expect(ps[0]).toMatchObject({ dueOn: "2026-12-02", source: "protocol" });
   });
 
+  it("waits for a past appointment to be marked attended or missed before proposing another", () => {
+    // common practice: the diary lists it under missed until the nurse marks it
+    const unmarked = { id: "b1", kind: "repeat-film" as const, source: "protocol" as const, state: "booked" as const, scheduledOn: "2026-11-29", version: 1 };
+    expect(proposeBookings({ ...base, bookings: [unmarked] })).toEqual([]);
+    // ...unless a flag asks for a film: overdue, today (common practice)
+    expect(proposeBookings({ ...base, bookings: [unmarked], openFlags: [{ id: "f9", rule: "overdue" }] }).map((p) => [p.kind, p.dueOn])).toEqual([["flag", "2026-12-01"]]);
+  });
+
   it("adds a film to confirm resolution when the prediction falls well after the protocol film", () => {
     // predicted resolution from 1.25 %/day (Kircher & Swartzel 1954) on 2026-12-20, 15 days after the protocol date
     const ps = proposeBookings({ ...base, predictedResolutionOn: "2026-12-20" });

@@ -2,7 +2,7 @@
 // point per day), the predicted resolution date, events on the time axis, and the live flags.
 import "server-only";
 import type { Trx } from "@/db/knex";
-import { getEpisode } from "@/db/episodes";
+import { notFound } from "@/lib/errors";
 import { FLAG_COLUMNS, type FlagRow } from "@/db/flags";
 import { LIVE_STATES } from "@/lib/followup/rules";
 import { readDeviationSettings } from "@/lib/settings-registry";
@@ -24,7 +24,6 @@ const PROCEDURE_EVENTS: Record<string, { kind: TrendEventKind; label: string }> 
 
 /** Everything the resorption chart shows for one episode of the caller's team (404 otherwise). */
 export async function getEpisodeTrend(trx: Trx, teamId: string, episodeId: string, now: Date): Promise<TrendData> {
-  await getEpisode(trx, teamId, episodeId);
   const [settings, seriesMap, procedures, drains, flags] = await inTurn<[DeviationSettings, Map<string, EpisodeSeriesData>, { kind: string; performed_at: Date; volume_ml: number | null }[], { inserted_at: Date; removed_at: Date | null; size_fr: number }[], FlagRow[]]>(trx, [
     () => readDeviationSettings(trx),
     () => loadEpisodeSeries(trx, [episodeId]),
@@ -32,8 +31,10 @@ export async function getEpisodeTrend(trx: Trx, teamId: string, episodeId: strin
     () => trx("drains").where({ episode_id: episodeId, team_id: teamId }).select("inserted_at", "removed_at", "size_fr").orderBy("inserted_at") as Promise<{ inserted_at: Date; removed_at: Date | null; size_fr: number }[]>,
     () => trx("flags").where({ episode_id: episodeId, team_id: teamId }).whereIn("state", LIVE_STATES).select(FLAG_COLUMNS).orderBy("raised_at") as Promise<FlagRow[]>,
   ]);
+  // The series carries the episode's team: another team's episode (or none) is not found. All queries ran
+  // side by side; what they read for a foreign episode is dropped here.
   const data = seriesMap.get(episodeId);
-  if (!data) throw new Error("episode series missing");
+  if (!data || data.teamId !== teamId) throw notFound("That episode");
   const base = trendFromSeries(data, settings, now);
   const at = (d: Date) => ({ day: round2(daysBetween(data.origin, d)), at: iso(d) });
   const events: TrendEvent[] = [];

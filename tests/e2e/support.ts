@@ -16,5 +16,5 @@ export async function signInAs(page: Page, role: DemoRole) {
   await page.getByLabel("E-mail").fill(u.email);
   await page.getByLabel("Password").fill(DEMO_PASSWORD);
   await page.getByRole("button", { name: "Sign in" }).click();
-  await expect(page.getByText(u.name)).toBeVisible();
+  await expect(page.getByRole("banner").getByText(u.name)).toBeVisible();
 }

@@ -28,7 +28,8 @@ async function main() {
   }
 }
 
-main().catch((err: unknown) => {
+// Exit when done: the object store's kept-alive sockets would otherwise hold the process open.
+main().then(() => process.exit(0), (err: unknown) => {
   console.error("[rimwatch] demo data failed:", err);
   process.exit(1);
 });

@@ -8,6 +8,10 @@ export const baseUrl = () => {
 };
 
 export interface Client {
+  /** Whether the client holds a session (false for anonymous and refused sign-ins). */
+  ok: boolean;
+  /** Why sign-in was refused, or null. */
+  error: string | null;
   cookie: string;
   fetch(path: string, init?: RequestInit): Promise<Response>;
   get(path: string): Promise<Response>;
@@ -23,11 +27,13 @@ function collectCookies(res: Response, jar: Map<string, string>) {
   }
 }
 
-function clientFrom(jar: Map<string, string>): Client {
+function clientFrom(jar: Map<string, string>, ok = false, error: string | null = "no session"): Client {
   const cookie = () => [...jar].map(([k, v]) => `${k}=${v}`).join("; ");
   const f = (path: string, init: RequestInit = {}) =>
     fetch(`${baseUrl()}${path}`, { redirect: "manual", ...init, headers: { cookie: cookie(), ...(init.headers ?? {}) } });
   return {
+    ok,
+    error,
     get cookie() { return cookie(); },
     fetch: f,
     get: (path) => f(path),
@@ -39,7 +45,7 @@ function clientFrom(jar: Map<string, string>): Client {
 /** A client with no session at all. */
 export const anonymous = (): Client => clientFrom(new Map());
 
-export async function signIn(email: string, password: string, headers: Record<string, string> = {}): Promise<Client & { ok: boolean; error: string | null }> {
+export async function signIn(email: string, password: string, headers: Record<string, string> = {}): Promise<Client> {
   const jar = new Map<string, string>();
   const csrfRes = await fetch(`${baseUrl()}/api/auth/csrf`);
   collectCookies(csrfRes, jar);
@@ -56,5 +62,5 @@ export async function signIn(email: string, password: string, headers: Record<st
   if (!location && res.headers.get("content-type")?.includes("json")) location = ((await res.json()) as { url?: string }).url ?? "";
   const error = new URL(location, baseUrl()).searchParams.get("error");
   const ok = [...jar.keys()].some((k) => k.endsWith("next-auth.session-token"));
-  return Object.assign(clientFrom(jar), { ok, error: ok ? null : (error ?? "no session") });
+  return clientFrom(jar, ok, ok ? null : (error ?? "no session"));
 }

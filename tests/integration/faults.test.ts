@@ -83,6 +83,7 @@ function startPg(): void {
 
 const s3Port = () => Number(new URL(env("S3_ENDPOINT")).port);
 let s3Pid = 0;
+let restarts = 0;
 const s3Alive = () => {
   try {
     process.kill(s3Pid, 0);
@@ -100,7 +101,8 @@ async function killS3(): Promise<void> {
 /** Starts the fake again on the same port and folder; services_down stops it through its pid file. */
 async function startS3(): Promise<void> {
   if (await portOpen(s3Port())) return;
-  const log = join(runDir(), "s3-restarted.log");
+  restarts += 1;
+  const log = join(runDir(), `s3-restarted-${restarts}.log`);
   const out = openSync(log, "a");
   const child = spawn(process.execPath, ["--import", "tsx", "storage/fake-s3.ts"], {
     env: { ...process.env, FAKE_S3_PORT: String(s3Port()), FAKE_S3_DIR: join(runDir(), "s3") },
@@ -110,7 +112,8 @@ async function startS3(): Promise<void> {
   child.unref();
   s3Pid = child.pid ?? 0;
   writeFileSync(join(runDir(), "restarted-fake-s3.pid"), String(s3Pid));
-  expect(await until(async () => readFileSync(log, "utf8").includes("listening"), 150, 200), `the object store came back (${log})`).toBe(true);
+  const up = await until(async () => readFileSync(log, "utf8").includes("listening") && (await portOpen(s3Port())), 150, 200);
+  expect(up, `the object store came back (${log})`).toBe(true);
 }
 
 // ---------------------------------------------------------------------------------------------------
@@ -246,7 +249,7 @@ describe("the object store", () => {
 
 describe("PostgreSQL", () => {
   it("stopped while 20 patients are being registered: each answer is 201 or a clear 503, and every row has its audit row", async () => {
-    const hns = Array.from({ length: 20 }, (_, i) => `FLT${randomUUID().slice(0, 6)}${i}`);
+    const hns = Array.from({ length: 20 }, (_, i) => `FLT${randomUUID().slice(0, 6)}${i}`.toUpperCase());
     const body = (hn: string) => ({ hospitalNumber: hn, familyName: "Faultline", givenName: "Rowan", dateOfBirth: "1979-07-07", sex: "other", emailConsent: false });
     const pending = hns.map((hn, i) => sleep(i * 15).then(() => registrar.send("POST", "/api/patients", body(hn))));
     await sleep(120);
@@ -259,7 +262,7 @@ describe("PostgreSQL", () => {
       const err = await errorOf(read);
       expect(err.code).toBe("unavailable");
       expect(err.message).toMatch(/not answering.*Nothing was saved/);
-      const write = await registrar.send("POST", "/api/patients", body(`FLT${randomUUID().slice(0, 6)}x`));
+      const write = await registrar.send("POST", "/api/patients", body(`FLT${randomUUID().slice(0, 6)}X`.toUpperCase()));
       expect(write.status).toBe(503);
       // A sign-in attempt is refused without a crash (next-auth answers with an error, no session).
       const attempt = await signIn(team.users.nurse.email, TEST_PASSWORD);
@@ -274,7 +277,7 @@ describe("PostgreSQL", () => {
     for (const [i, hn] of hns.entries()) {
       const row = await testDb()("patients").where({ hospital_number: hn }).first<{ id: string } | undefined>("id");
       if (answers[i]?.status === 201) {
-        expect(row, `${hn} answered 201`).toBeTruthy();
+        expect(row, `${hn} answered 201 (${answers[i]?.body.slice(0, 120)}); answers ${answers.map((a) => a.status).join(",")}`).toBeTruthy();
         expect(await count("audit_log", { entity_id: row?.id ?? "", action: "patient.create" }), `${hn}: its audit row`).toBe(1);
       } else {
         expect(row, `${hn} answered ${answers[i]?.status}: nothing may be stored`).toBeUndefined();
@@ -286,7 +289,7 @@ describe("PostgreSQL", () => {
     const first = await registrar.get("/api/patients");
     expect(first.status, await first.clone().text()).toBe(200);
     const write = await registrar.send("POST", "/api/patients", {
-      hospitalNumber: `FLT${randomUUID().slice(0, 6)}ok`,
+      hospitalNumber: `FLT${randomUUID().slice(0, 6)}OK`.toUpperCase(),
       familyName: "Faultline",
       givenName: "Rowan",
       dateOfBirth: "1979-07-07",
@@ -321,11 +324,15 @@ describe("the mail relay", () => {
     const m1 = await testDb()("messages").where({ id }).first<{ status: string; last_error: string | null }>("status", "last_error");
     expect(m1?.status).toBe("queued");
     expect(m1?.last_error ?? "").toMatch(/451|temporar|unavailable/i);
-    const job = await testDb().raw<{ rows: { state: string; retry_count: number }[] }>(
-      "select state, retry_count from pgboss.job where name = 'mail.send' and data->>'messageId' = ? order by created_on desc limit 1",
-      [id],
-    );
-    expect(job.rows[0]?.state, "pg-boss holds the job for a retry").toBe("retry");
+    // The worker records the attempt, then hands the job back to pg-boss, which marks it for a retry.
+    const jobState = async () =>
+      (
+        await testDb().raw<{ rows: { state: string }[] }>(
+          "select state from pgboss.job where name = 'mail.send' and data->>'messageId' = ? order by created_on desc limit 1",
+          [id],
+        )
+      ).rows[0]?.state;
+    expect(await until(async () => (await jobState()) === "retry", 40, 250), `pg-boss holds the job for a retry (state ${await jobState()})`).toBe(true);
 
     // The relay accepts again; instead of waiting out the backoff, the retry is brought forward.
     rmSync(join(mailDir(), "refuse"), { force: true });

@@ -99,7 +99,8 @@ describe("cross-site request forgery", () => {
 
   it("a JSON request from another site is refused (403); the same site and server-to-server calls pass", async () => {
     const foreign = newHn("FO");
-    for (const headers of [{ origin: "https://evil.example" }, { origin: "null" }, { "sec-fetch-site": "cross-site" }, { origin: "http://127.0.0.1.evil.example" }]) {
+    const foreignHeaders: Record<string, string>[] = [{ origin: "https://evil.example" }, { origin: "null" }, { "sec-fetch-site": "cross-site" }, { origin: "http://127.0.0.1.evil.example" }];
+    for (const headers of foreignHeaders) {
       const res = await registrar.fetch("/api/patients", { method: "POST", headers: { "content-type": "application/json", ...headers }, body: JSON.stringify(patientBody(foreign)) });
       expect(res.status, JSON.stringify(headers)).toBe(403);
       expect(((await res.json()) as { error: { message: string } }).error.message).toMatch(/another site/);
@@ -192,7 +193,7 @@ describe("sessions", () => {
     return s;
   };
   const withToken = (token: string) => anonymous().fetch("/api/patients", { headers: { cookie: `${SESSION_COOKIE}=${token}` } });
-  const claims = () => ({ sub: team.users.registrar.id, role: "registrar", teamId: team.id, name: "x", email: team.users.registrar.email, signedInAt: Date.now() });
+  const claims = () => ({ sub: team.users.registrar.id, role: "registrar" as const, teamId: team.id, name: "x", email: team.users.registrar.email, signedInAt: Date.now() });
 
   it("a token made with the server's secret works (so the checks below mean something)", async () => {
     const token = await encode({ token: claims(), secret: secret(), maxAge: 600 });

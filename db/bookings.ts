@@ -9,7 +9,7 @@ import { addDays, CLINIC_TIME_ZONE, clinicDate, clinicWallTimeToUtc } from "@/li
 import { evaluateEpisodeFlags, type EvaluationResult } from "@/lib/followup/evaluate";
 import { BOOKING_RULES, LIVE_STATES } from "@/lib/followup/rules";
 import { loadEpisodeSeries } from "@/lib/followup/series";
-import { trendFromSeries } from "@/lib/followup/trend";
+import { predictionFromSeries } from "@/lib/followup/trend";
 import { DEFAULT_PROPOSAL_SETTINGS, proposeBookings, type Proposal, type ProposalInputs } from "@/lib/followup/proposals";
 import { recordBookingMessage } from "@/lib/mail/outbox";
 import { getProtocols, readDeviationSettings, readDiarySettings } from "@/lib/settings-registry";
@@ -290,7 +290,7 @@ export async function proposalsFor(trx: Trx, teamId: string, episodeIds: readonl
   const settings = { ...DEFAULT_PROPOSAL_SETTINGS, earlierFilmWithinDays: diary.earlierFilmWithinDays };
   for (const e of episodes) {
     const data = series.get(e.id);
-    const prediction = data ? trendFromSeries(data, deviation, now).prediction : null;
+    const prediction = data ? predictionFromSeries(data, deviation) : null;
     const d = drn.get(e.id);
     const proposals = proposeBookings(
       {

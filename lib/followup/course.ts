@@ -114,6 +114,24 @@ export function expectedCourse(
   return { band, resolutionDay };
 }
 
+/**
+ * The predicted resolution alone, as trendFromSeries reports it, without drawing the expected line
+ * (the follow-up diary and the travel note need only this, for many episodes at once).
+ */
+export function predictionFromSeries(data: EpisodeSeriesData, settings: Pick<DeviationSettings, "ratePerDay" | "oxygenMultiplier">): TrendData["prediction"] {
+  const baseline = baselineOf(data);
+  if (!baseline) return null;
+  const options = { ratePerDay: settings.ratePerDay, oxygenMultiplier: settings.oxygenMultiplier, oxygenPeriods: oxygenPeriodsOf(data), fromDay: baseline.day };
+  const resolutionDay = baseline.day + predictedResolutionDays(baseline.percent, options);
+  return {
+    baselineFilmId: baseline.filmId,
+    baselineDay: round2(baseline.day),
+    baselinePercent: baseline.percent,
+    resolutionDay: round2(resolutionDay),
+    resolutionDate: iso(new Date(data.origin.getTime() + resolutionDay * DAY_MS)),
+  };
+}
+
 export function trendFromSeries(data: EpisodeSeriesData, settings: DeviationSettings, now: Date): Omit<TrendData, "events" | "flags"> {
   const nowDay = daysBetween(data.origin, now);
   const films: TrendFilm[] = data.films.map((p) => ({

@@ -11,7 +11,7 @@ import { daysBetween, inTurn, loadEpisodeSeries, type EpisodeSeriesData } from "
 import { sparklineFromSeries, trendFromSeries, type Sparkline, type TrendData, type TrendEvent, type TrendEventKind } from "./course";
 
 export type { ExpectedPoint, Sparkline, TrendData, TrendEvent, TrendEventKind, TrendFilm, TrendFlag, TrendPoint } from "./course";
-export { expectedCourse, sparklineFromSeries, trendFromSeries } from "./course";
+export { expectedCourse, predictionFromSeries, sparklineFromSeries, trendFromSeries } from "./course";
 
 const iso = (d: Date) => d.toISOString();
 const round2 = (n: number) => Math.round(n * 100) / 100;

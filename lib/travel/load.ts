@@ -5,7 +5,7 @@ import { getEpisode, type EpisodeRow } from "@/db/episodes";
 import { getPatient } from "@/db/patients";
 import { clinicDate } from "@/lib/clinic-time";
 import { loadEpisodeSeries, percentOf } from "@/lib/followup/series";
-import { trendFromSeries } from "@/lib/followup/trend";
+import { predictionFromSeries } from "@/lib/followup/trend";
 import { readDeviationSettings, readTravelSettings } from "@/lib/settings-registry";
 import { travelFigures, type TravelFigures } from "./figures";
 
@@ -39,7 +39,7 @@ export async function getTravelFigures(trx: Trx, teamId: string, episodeId: stri
       const v = percentOf(p, data.primaryMethod);
       if (v !== null) latest = { percent: v, method: data.primaryMethod, filmOn: clinicDate(p.takenAt) };
     }
-    const prediction = trendFromSeries(data, deviation, now).prediction;
+    const prediction = predictionFromSeries(data, deviation);
     predicted = prediction ? clinicDate(new Date(prediction.resolutionDate)) : null;
   }
   const resolvedOn = episode.resolved_on;

@@ -93,6 +93,21 @@ const s3Alive = () => {
   }
 };
 
+/**
+ * The process now serving the object store's port. An earlier test file may have restarted the fake
+ * (tests/support/films.ts restartFakeS3), so $RW_S3_PID can name a process that has gone.
+ */
+function pidOnS3Port(): number {
+  try {
+    const out = execFileSync("ss", ["-ltnpH", `sport = :${s3Port()}`], { encoding: "utf8" });
+    const m = /pid=(\d+)/.exec(out);
+    if (m?.[1]) return Number(m[1]);
+  } catch {
+    // no ss: fall back to the pid the test script recorded
+  }
+  return Number(env("RW_S3_PID"));
+}
+
 async function killS3(): Promise<void> {
   process.kill(s3Pid, "SIGTERM");
   expect(await until(async () => !(await portOpen(s3Port())), 100, 100), "the object store stopped").toBe(true);
@@ -157,7 +172,7 @@ async function errorOf(res: Response): Promise<{ code: string; message: string }
 }
 
 beforeAll(async () => {
-  s3Pid = Number(env("RW_S3_PID"));
+  s3Pid = pidOnS3Port();
   team = await makeTeam("faults");
   registrar = await signIn(team.users.registrar.email, TEST_PASSWORD);
   expect(registrar.ok).toBe(true);

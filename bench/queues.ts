@@ -9,14 +9,16 @@
  *   one after another with a bare `pg` client on one connection. The difference is what the app adds:
  *   query building, pooling, and turning rows into the worklist and sparklines.
  *
- * Data: a throw-away database (created and dropped here) with 20 teams, 100,000 patients and episodes,
- * 1,000,000 films and 1,000,000 measurements (10 per episode), 10,000 flags, 50,000 bookings, made with
+ * Data: a throw-away database (created and dropped here) with 20 teams, 100,000 patients and episodes
+ * (30 % active), 1,000,000 films and 1,000,000 measurements (10 per episode), 10,000 flags (a third
+ * of them live), 50,000 bookings, made with
  * generate_series in SQL. Invented throughout: no real patient, team or hospital.
  * Target (the hardening issue): p95 <= 1.5 x the floor's p95, and p95 < 50 ms.
  *
  * Run: node --conditions=react-server --import tsx bench/queues.ts
  *   needs DATABASE_URL of a PostgreSQL where it may create a database (bench/run.sh starts one).
- *   BENCH_RUNS (default 60), BENCH_EPISODES (default 100000), BENCH_KEEP_DB=1 keeps the database.
+ *   BENCH_RUNS (default 60), BENCH_EPISODES (default 100000), BENCH_KEEP_DB=1 keeps the database,
+ *   BENCH_EXPLAIN=1 prints the plans of the slowest statements.
  * Prints its figures; writes bench/results/queues.json.
  */
 import { mkdirSync, writeFileSync } from "node:fs";
@@ -25,10 +27,10 @@ import knexFactory, { type Knex } from "knex";
 import pg from "pg";
 
 const RUNS = Number(process.env.BENCH_RUNS ?? 60);
-const WARMUP = 5;
 const EPISODES = Number(process.env.BENCH_EPISODES ?? 100_000);
 const FILMS_PER_EPISODE = 10;
 const TEAMS = 20;
+const WARMUP = TEAMS; // one call per team first, so no run pays for a team's first (cold) read
 const DB_NAME = "rimwatch_bench_queues";
 const TARGET_RATIO = 1.5;
 const TARGET_P95_MS = 50;
@@ -90,8 +92,8 @@ async function load(k: Knex): Promise<void> {
     insert into episodes (id, patient_id, team_id, side, presented_on, aetiology, management, status, primary_method, consultant_id, registrar_id, created_at)
       select md5('e' || i)::uuid, md5('p' || i)::uuid, md5('t' || (i % ${TEAMS} + 1))::uuid,
              case when i % 2 = 0 then 'left' else 'right' end, current_date - (i % 400),
-             'primary-spontaneous', case when i % 7 = 0 then 'chest-drain' else 'observation' end,
-             case when i % 10 < 3 then 'active' when i % 10 < 8 then 'resolved' else 'closed' end,
+             'primary-spontaneous', case when (i / ${TEAMS}) % 7 = 0 then 'chest-drain' else 'observation' end,
+             case when (i / ${TEAMS}) % 10 < 3 then 'active' when (i / ${TEAMS}) % 10 < 8 then 'resolved' else 'closed' end,
              'collins', md5('uconsultant' || (i % ${TEAMS} + 1))::uuid, md5('uregistrar' || (i % ${TEAMS} + 1))::uuid,
              now() - make_interval(days => i % 400)
       from generate_series(1, ${EPISODES}) i;`);
@@ -118,27 +120,27 @@ async function load(k: Knex): Promise<void> {
   await step("flags (one episode in ten)", `
     insert into flags (id, episode_id, team_id, rule, state, figures, reason, raised_at, updated_at)
       select md5('g' || i)::uuid, md5('e' || i)::uuid, md5('t' || (i % ${TEAMS} + 1))::uuid,
-             (array['slower-than-expected', 'overdue', 'enlarging', 'large-by-guideline'])[i / 10 % 4 + 1],
-             case when i % 30 = 0 then 'open' when i % 30 = 10 then 'acknowledged' else 'resolved' end,
+             (array['slower-than-expected', 'overdue', 'enlarging', 'large-by-guideline'])[i / ${TEAMS} / 10 % 4 + 1],
+             case when (i / ${TEAMS}) % 30 = 0 then 'open' when (i / ${TEAMS}) % 30 = 10 then 'acknowledged' else 'resolved' end,
              '{}', 'Invented bench flag', now() - make_interval(days => i % 60), now()
-      from generate_series(10, ${EPISODES}, 10) i;`);
+      from generate_series(1, ${EPISODES}) i where (i / ${TEAMS}) % 10 = 0;`);
   await step("bookings (one episode in two) and messages", `
     insert into bookings (id, episode_id, team_id, kind, source, scheduled_at, due_on, location, state, created_by, created_at, updated_at)
       select md5('b' || i)::uuid, md5('e' || i)::uuid, md5('t' || (i % ${TEAMS} + 1))::uuid, 'repeat-film', 'manual',
              now() + make_interval(days => (i % 40) - 20), current_date + ((i % 40) - 20), 'X-ray department, Larkmoor General Hospital',
              case when (i % 40) >= 20 then 'booked' when i % 3 = 0 then 'attended' when i % 3 = 1 then 'missed' else 'booked' end,
              md5('unurse' || (i % ${TEAMS} + 1))::uuid, now() - make_interval(days => 30), now() - make_interval(days => 30)
-      from generate_series(2, ${EPISODES}, 2) i;
+      from generate_series(1, ${EPISODES}) i where (i / ${TEAMS}) % 2 = 0;
     insert into messages (id, team_id, episode_id, booking_id, recipient, template, subject, status, dedupe_key, created_at)
       select md5('s' || i)::uuid, md5('t' || (i % ${TEAMS} + 1))::uuid, md5('e' || i)::uuid, md5('b' || i)::uuid, 'p' || i || '@bench.example',
              'booking-confirmation', 'Your repeat chest X-ray', 'sent', 'bench-' || i, now() - make_interval(days => 30)
-      from generate_series(4, ${EPISODES}, 4) i;`);
+      from generate_series(1, ${EPISODES}) i where (i / ${TEAMS}) % 4 = 0;`);
   await step("drains, oxygen, procedures (a few)", `
     insert into drains (id, episode_id, team_id, inserted_at, inserted_by, size_fr, site, technique, drainage)
       select md5('d' || i)::uuid, md5('e' || i)::uuid, md5('t' || (i % ${TEAMS} + 1))::uuid, now() - make_interval(days => i % 400), 'Dr Bench', 12, '4th intercostal space', 'seldinger', 'underwater-seal'
-      from generate_series(7, ${EPISODES}, 7) i;
-    insert into oxygen_periods (episode_id, started_at, ended_at) select md5('e' || i)::uuid, now() - make_interval(days => 3), now() - make_interval(days => 1) from generate_series(5, ${EPISODES}, 5) i;
-    insert into procedures (episode_id, kind, performed_at) select md5('e' || i)::uuid, 'needle-aspiration', now() - make_interval(days => 2) from generate_series(11, ${EPISODES}, 11) i;`);
+      from generate_series(1, ${EPISODES}) i where (i / ${TEAMS}) % 7 = 3;
+    insert into oxygen_periods (episode_id, started_at, ended_at) select md5('e' || i)::uuid, now() - make_interval(days => 3), now() - make_interval(days => 1) from generate_series(1, ${EPISODES}) i where (i / ${TEAMS}) % 5 = 1;
+    insert into procedures (episode_id, kind, performed_at) select md5('e' || i)::uuid, 'needle-aspiration', now() - make_interval(days => 2) from generate_series(1, ${EPISODES}) i where (i / ${TEAMS}) % 11 = 2;`);
   await step("vacuum analyze", "vacuum analyze");
 }
 
@@ -147,6 +149,8 @@ interface Measured {
   floor: number[];
   statements: number;
   slowest: Map<string, number[]>;
+  /** The last run's statements with their values, for BENCH_EXPLAIN=1. */
+  last: { text: string; values: unknown[] }[];
 }
 
 async function main(): Promise<void> {
@@ -190,7 +194,7 @@ async function main(): Promise<void> {
 
     const results: Record<string, Measured> = {};
     for (const [name, run] of Object.entries(cases)) {
-      const m: Measured = { app: [], floor: [], statements: 0, slowest: new Map() };
+      const m: Measured = { app: [], floor: [], statements: 0, slowest: new Map(), last: [] };
       for (let i = 0; i < WARMUP + RUNS; i += 1) {
         const teamId = teamIds[i % teamIds.length] ?? "";
         captured = [];
@@ -210,6 +214,7 @@ async function main(): Promise<void> {
           m.app.push(app);
           m.floor.push(floor);
           m.statements = statements.length;
+          m.last = statements;
         }
       }
       results[name] = m;
@@ -225,12 +230,21 @@ async function main(): Promise<void> {
       const ratio = appP95 / floorP95;
       const ok = ratio <= TARGET_RATIO && appP95 < TARGET_P95_MS;
       allOk &&= ok;
-      console.log(`${name}: ${m.statements} statements`);
+      console.log(`${name}: ${m.statements} SQL statements a call`);
       console.log(`  app   median ${f(p(m.app, 0.5))}  p95 ${f(appP95)}`);
       console.log(`  floor median ${f(p(m.floor, 0.5))}  p95 ${f(floorP95)}   (the same SQL with a bare pg client, one connection)`);
       console.log(`  ratio p95 app / floor: ${ratio.toFixed(2)}x (target <= ${TARGET_RATIO}x and p95 < ${TARGET_P95_MS} ms) ${ok ? "OK" : "OVER TARGET"}`);
       const slow = [...m.slowest].map(([sql, t]) => ({ sql, p95: p(t, 0.95) })).sort((a, b) => b.p95 - a.p95).slice(0, 3);
       for (const s of slow) console.log(`    slowest statement p95 ${f(s.p95)}: ${s.sql.replace(/\s+/g, " ").slice(0, 150)}`);
+      if (process.env.BENCH_EXPLAIN) {
+        // The query plans of the slowest statements (to see which index a query lacks).
+        for (const sl of slow) {
+          const st = m.last.find((x) => x.text === sl.sql);
+          if (!st) continue;
+          const plan = await floorClient.query(`explain (analyze, buffers) ${st.text}`, st.values);
+          console.log(`    plan:\n${plan.rows.map((r: Record<string, string>) => `      ${Object.values(r)[0]}`).join("\n")}`);
+        }
+      }
       summary[name] = { appMedianMs: p(m.app, 0.5), appP95Ms: appP95, floorMedianMs: p(m.floor, 0.5), floorP95Ms: floorP95, ratio, statements: m.statements, ok };
     }
     console.log(`overall: ${allOk ? "OK" : "OVER TARGET"}`);

@@ -341,6 +341,7 @@ async function bookingsWithPatients(trx: Trx, teamId: string, where: (q: Knex.Qu
     .join("episodes as e", "e.id", "b.episode_id")
     .join("patients as p", "p.id", "e.patient_id")
     .where("b.team_id", teamId)
+    .where("e.team_id", teamId) // the same team, said of the episode too: the planner then reads only this team's episodes
     .select(
       ...BOOKING_COLUMNS.map((c) => `b.${c}`),
       "p.id as patient_id", "p.given_name", "p.family_name", "p.hospital_number", "p.email", "p.email_consent",

@@ -119,9 +119,22 @@ export async function loadEpisodeSeries(trx: Trx, episodeIds: readonly string[])
       .orderBy("b.scheduled_at") as Promise<BookingFacts[]>,
   ]);
   const byFilm = new Map(measurements.map((m) => [m.film_id, m]));
+  // Grouped once (a worklist holds hundreds of episodes and thousands of films; filtering the whole
+  // list for each episode was most of its time).
+  const group = <T extends { episode_id: string }>(rows: readonly T[]) => {
+    const m = new Map<string, T[]>();
+    for (const r of rows) {
+      const list = m.get(r.episode_id);
+      if (list) list.push(r);
+      else m.set(r.episode_id, [r]);
+    }
+    return m;
+  };
+  const filmsOf = group(films);
+  const oxygenOf = group(oxygen);
+  const bookingsOf = group(bookings); // in scheduled_at order, as queried
   for (const e of episodes) {
-    const own = films
-      .filter((f) => f.episode_id === e.id)
+    const own = (filmsOf.get(e.id) ?? [])
       .map((f) => ({ f, at: f.taken_at ?? f.created_at }))
       .sort((a, b) => a.at.getTime() - b.at.getTime() || (a.f.id < b.f.id ? -1 : 1));
     const origin = own[0]?.at ?? new Date(`${e.presented_on}T00:00:00Z`);
@@ -142,7 +155,7 @@ export async function loadEpisodeSeries(trx: Trx, episodeIds: readonly string[])
         apexCm: cm(m?.apex_cm),
       };
     });
-    const next = bookings.find((b) => b.episode_id === e.id);
+    const next = bookingsOf.get(e.id)?.[0];
     out.set(e.id, {
       episodeId: e.id,
       teamId: e.team_id,
@@ -150,14 +163,12 @@ export async function loadEpisodeSeries(trx: Trx, episodeIds: readonly string[])
       primaryMethod: e.primary_method,
       origin,
       films: points,
-      oxygen: oxygen
-        .filter((o) => o.episode_id === e.id)
-        .map((o) => ({
-          startedAt: o.started_at,
-          endedAt: o.ended_at,
-          startDay: daysBetween(origin, o.started_at),
-          endDay: o.ended_at ? Math.max(daysBetween(origin, o.ended_at), daysBetween(origin, o.started_at)) : null,
-        })),
+      oxygen: (oxygenOf.get(e.id) ?? []).map((o) => ({
+        startedAt: o.started_at,
+        endedAt: o.ended_at,
+        startDay: daysBetween(origin, o.started_at),
+        endDay: o.ended_at ? Math.max(daysBetween(origin, o.ended_at), daysBetween(origin, o.started_at)) : null,
+      })),
       nextBooking: next ? { id: next.id, scheduledAt: next.scheduled_at, dayIndex: daysBetween(origin, next.scheduled_at) } : null,
     });
   }

@@ -4,6 +4,7 @@ import { db } from "@/db/knex";
 import { getEpisode, listOxygenPeriods, listProcedures, updateEpisode } from "@/db/episodes";
 import { episodeUpdate } from "@/lib/validation/episodes";
 import { uuid } from "@/lib/validation/common";
+import { reevaluateFlags } from "@/lib/measurement-flags";
 
 export const GET = apiRoute<{ id: string }>("episode.read", async ({ user, params }) => {
   const id = uuid.parse(params.id);
@@ -15,6 +16,10 @@ export const GET = apiRoute<{ id: string }>("episode.read", async ({ user, param
 export const PATCH = apiRoute<{ id: string }>("episode.write", async ({ req, user, params }) => {
   const id = uuid.parse(params.id);
   const input = await parseJson(req, episodeUpdate);
-  const episode = await db().transaction((trx) => updateEpisode(trx, user, id, input));
+  const episode = await db().transaction(async (trx) => {
+    const row = await updateEpisode(trx, user, id, input);
+    await reevaluateFlags(user)(trx, id); // status and primary method change which rules apply
+    return row;
+  });
   return { episode };
 });

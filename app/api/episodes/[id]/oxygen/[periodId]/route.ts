@@ -4,11 +4,16 @@ import { db } from "@/db/knex";
 import { stopOxygen } from "@/db/episodes";
 import { oxygenStop } from "@/lib/validation/episodes";
 import { uuid } from "@/lib/validation/common";
+import { reevaluateFlags } from "@/lib/measurement-flags";
 
 export const PATCH = apiRoute<{ id: string; periodId: string }>("episode.write", async ({ req, user, params }) => {
   const id = uuid.parse(params.id);
   const periodId = uuid.parse(params.periodId);
   const { endedAt } = await parseJson(req, oxygenStop);
-  const period = await db().transaction((trx) => stopOxygen(trx, user, id, periodId, endedAt));
+  const period = await db().transaction(async (trx) => {
+    const row = await stopOxygen(trx, user, id, periodId, endedAt);
+    await reevaluateFlags(user)(trx, id); // oxygen changes the expected resorption
+    return row;
+  });
   return { period };
 });

@@ -10,6 +10,7 @@ export NEXT_TELEMETRY_DISABLED=1 PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1
 source scripts/services.sh
 
 rw_ensure_node_modules || exit 1
+rw_ensure_test_packages || exit 1
 unset DATABASE_URL S3_ENDPOINT S3_BUCKET SMTP_HOST # benchmarks always run on their own services
 trap 'services_down' EXIT
 trap 'exit 143' TERM INT

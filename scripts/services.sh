@@ -162,3 +162,16 @@ rw_ensure_node_modules() {
     PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1 npm ci --no-audit --no-fund >/dev/null || return 1
   fi
 }
+
+# Debian's Chromium (browser tests and the film-desk benchmark) and dcmtk (reference DICOM tools for the
+# film tests), installed from Debian's packages when missing; nothing downloads a browser of its own.
+rw_ensure_test_packages() {
+  local missing=()
+  [ -x /usr/bin/chromium ] || missing+=(chromium)
+  command -v dcmdump >/dev/null || missing+=(dcmtk)
+  if [ ${#missing[@]} -gt 0 ]; then
+    rw_log "installing Debian packages: ${missing[*]}"
+    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq "${missing[@]}" >/dev/null \
+      || { rw_log "could not install ${missing[*]}"; return 1; }
+  fi
+}

@@ -7,13 +7,7 @@ export NEXT_TELEMETRY_DISABLED=1 PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD=1
 source scripts/services.sh
 
 rw_ensure_node_modules || exit 1
-missing=()
-[ -x /usr/bin/chromium ] || missing+=(chromium)
-command -v dcmdump >/dev/null || missing+=(dcmtk)
-if [ ${#missing[@]} -gt 0 ]; then
-  rw_log "installing Debian packages: ${missing[*]}"
-  apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq "${missing[@]}" >/dev/null || { rw_log "could not install ${missing[*]}"; exit 1; }
-fi
+rw_ensure_test_packages || exit 1
 
 unset DATABASE_URL S3_ENDPOINT S3_BUCKET SMTP_HOST # tests always run on their own throw-away services
 trap 'services_down' EXIT

@@ -27,6 +27,8 @@ const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 32);
 const FILMS = 30;
 const PASSWORD = "bench-password-2026";
 const DAY = 86_400_000;
+const TARGET_RATIO = 0.5;
+const TARGET_P99_MS = 50;
 
 async function setUp(): Promise<{ email: string; episodeId: string }> {
   const url = process.env.DATABASE_URL;
@@ -141,7 +143,15 @@ async function main() {
   console.log(`  trend : ${figures.trend.reqPerSec.toFixed(1)} req/s, p99 ${figures.trend.p99Ms} ms (p50 ${figures.trend.p50Ms} ms)`);
   console.log(`  floor : ${figures.floor.reqPerSec.toFixed(1)} req/s, p99 ${figures.floor.p99Ms} ms (p50 ${figures.floor.p50Ms} ms)  [bare handler, same bytes]`);
   console.log(`  ratio : ${figures.ratio.reqPerSec.toFixed(3)} of the floor's req/s; p99 ${figures.ratio.p99.toFixed(2)} x the floor's`);
-  if (bad > 0) console.log(`  warning: ${bad} non-2xx answers or errors`);
+  // Target (the hardening issue): >= 0.5 x the floor's throughput and p99 < 50 ms. With 32 connections a
+  // p99 under 50 ms needs well over 640 req/s (Little's law: 32 in flight / 50 ms), so the floor's own p99
+  // is printed beside it: where the floor misses it too, the limit is the server, not the route.
+  const throughputOk = figures.ratio.reqPerSec >= TARGET_RATIO;
+  const p99Ok = figures.trend.p99Ms < TARGET_P99_MS;
+  console.log(
+    `  target: >= ${TARGET_RATIO} x the floor's req/s ${throughputOk ? "OK" : "OVER TARGET"}; p99 < ${TARGET_P99_MS} ms ${p99Ok ? "OK" : `OVER TARGET (the floor's own p99 is ${figures.floor.p99Ms} ms)`}`,
+  );
+  if (bad > 0) console.log(`  warning: ${bad} non-2xx answers or errors: OVER TARGET`);
   const dir = join(process.cwd(), "bench", "results");
   mkdirSync(dir, { recursive: true });
   writeFileSync(join(dir, "trend-api.json"), `${JSON.stringify(figures, null, 2)}\n`);

@@ -138,7 +138,11 @@ export function findGroup(key: string): SettingGroup {
  * A stored field that no longer passes the schema (e.g. after a range changed) falls back to its default.
  */
 export async function readGroup<S extends z.ZodObject>(trx: Trx, group: SettingGroup<S>): Promise<z.output<S>> {
-  const stored = await getSetting<unknown>(trx, group.key, null);
+  return groupValues(group, await getSetting<unknown>(trx, group.key, null));
+}
+
+/** readGroup's merge, for a caller that read the stored value itself (in a statement of its own). */
+export function groupValues<S extends z.ZodObject>(group: SettingGroup<S>, stored: unknown): z.output<S> {
   const merged: Record<string, unknown> = { ...(group.defaults as Record<string, unknown>) };
   if (stored && typeof stored === "object") {
     for (const [k, v] of Object.entries(stored as Record<string, unknown>)) {

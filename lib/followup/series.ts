@@ -64,23 +64,128 @@ function cm(v: unknown): number | null {
   return typeof n === "number" && Number.isFinite(n) && n >= 0 ? n : null;
 }
 
-interface EpisodeFacts { id: string; team_id: string; status: EpisodeSeriesData["status"]; primary_method: Method; presented_on: string }
-interface FilmFacts { id: string; episode_id: string; taken_at: Date | null; created_at: Date; projection: string | null; position: string | null }
-interface MeasurementFacts {
+/** One episode's row with its films (each with its chosen measurement), oxygen and next booking, as one statement returns it. Times are epoch milliseconds. */
+export interface SeriesRow {
   id: string;
-  film_id: string;
-  light_percent: number | null;
-  rhea_percent: number | null;
-  collins_percent: number | null;
-  hilum_cm: number | null;
-  apex_cm: number | null;
-  signed_off_at: Date | null;
+  team_id: string;
+  status: EpisodeSeriesData["status"];
+  primary_method: Method;
+  presented_on: string;
+  films: {
+    id: string;
+    at: number;
+    projection: string | null;
+    position: string | null;
+    m: string | null;
+    light: number | null;
+    rhea: number | null;
+    collins: number | null;
+    hilum: number | null;
+    apex: number | null;
+    signed: boolean | null;
+  }[];
+  oxygen: { s: number; e: number | null }[];
+  next_booking: { id: string; s: number } | null;
 }
-interface OxygenFacts { episode_id: string; started_at: Date; ended_at: Date | null }
-interface BookingFacts { id: string; episode_id: string; scheduled_at: Date }
+
+// One statement for any number of episodes, instead of five: for one episode (the chart) the round
+// trips cost more than the lookups, and for hundreds (the diary's worklist) PostgreSQL joins films to
+// their chosen measurements by hash. Measured by bench/trend-api.ts and bench/queues.ts.
+const SERIES_SQL = `
+with chosen as materialized (
+  -- the chosen measurement of each film: the signed-off current version if any, else the latest current one
+  select distinct on (m.film_id) m.film_id, m.id, m.light_percent, m.rhea_percent, m.collins_percent, m.hilum_cm, m.apex_cm, m.signed_off_at
+    from measurements m
+   where m.episode_id = any(?::uuid[]) and m.superseded_at is null
+   order by m.film_id, (m.signed_off_at is not null) desc, m.signed_off_at desc nulls last, m.created_at desc, m.version desc
+), fl as (
+  select f.episode_id,
+         json_agg(json_build_object(
+           'id', f.id, 'at', extract(epoch from coalesce(f.taken_at, f.created_at)) * 1000,
+           'projection', f.projection, 'position', f.position,
+           'm', m.id, 'light', m.light_percent, 'rhea', m.rhea_percent, 'collins', m.collins_percent,
+           'hilum', m.hilum_cm, 'apex', m.apex_cm, 'signed', m.signed_off_at is not null)) as films
+    from films f
+    left join chosen m on m.film_id = f.id
+   where f.episode_id = any(?::uuid[]) and f.deleted_at is null
+   group by f.episode_id
+), ox as (
+  select o.episode_id,
+         json_agg(json_build_object('s', extract(epoch from o.started_at) * 1000, 'e', extract(epoch from o.ended_at) * 1000) order by o.started_at) as oxygen
+    from oxygen_periods o
+   where o.episode_id = any(?::uuid[])
+   group by o.episode_id
+)
+select e.id, e.team_id, e.status, e.primary_method, e.presented_on,
+       coalesce(fl.films, '[]'::json) as films, coalesce(ox.oxygen, '[]'::json) as oxygen, nb.next_booking
+  from episodes e
+  left join fl on fl.episode_id = e.id
+  left join ox on ox.episode_id = e.id
+  left join lateral (
+    -- the next film is due at the earliest booked repeat film, or at a missed one nobody has rebooked
+    -- yet (so that a missed film makes the episode overdue)
+    select json_build_object('id', b.id, 's', extract(epoch from b.scheduled_at) * 1000) as next_booking
+      from bookings b
+     where b.episode_id = e.id and b.kind = 'repeat-film'
+       and (b.state = 'booked' or (b.state = 'missed' and not exists (
+             select 1 from bookings l where l.episode_id = b.episode_id and l.created_at > b.updated_at and l.state in ('booked', 'attended'))))
+     order by b.scheduled_at
+     limit 1
+  ) nb on true
+ where e.id = any(?::uuid[])`;
+
+/** SQL text without its comments and indentation (the text travels to the server with every call). */
+export const compactSql = (sql: string): string =>
+  sql.split("\n").map((l) => l.replace(/--.*$/, "").trim()).filter(Boolean).join(" ");
+
+/** The statement behind loadEpisodeSeries, for a caller that adds its own columns; bind seriesBindings(ids). */
+export const EPISODE_SERIES_SQL = compactSql(SERIES_SQL);
+export const seriesBindings = (ids: readonly string[]): string[][] => [[...ids], [...ids], [...ids], [...ids]];
+
+/** One row of EPISODE_SERIES_SQL as the rules and the chart take it. */
+export function seriesFromRow(e: SeriesRow): EpisodeSeriesData {
+  const own = e.films
+    .map((f) => ({ f, at: new Date(f.at) }))
+    .sort((a, b) => a.at.getTime() - b.at.getTime() || (a.f.id < b.f.id ? -1 : 1));
+  const origin = own[0]?.at ?? new Date(`${e.presented_on}T00:00:00Z`);
+  const films: FilmPoint[] = own.map(({ f, at }) => ({
+    filmId: f.id,
+    takenAt: at,
+    dayIndex: daysBetween(origin, at),
+    projection: f.projection,
+    position: f.position,
+    measurementId: f.m,
+    signedOff: f.signed === true,
+    light: pct(f.light),
+    rhea: pct(f.rhea),
+    collins: pct(f.collins),
+    hilumCm: cm(f.hilum),
+    apexCm: cm(f.apex),
+  }));
+  const next = e.next_booking ? { id: e.next_booking.id, scheduledAt: new Date(e.next_booking.s) } : null;
+  return {
+    episodeId: e.id,
+    teamId: e.team_id,
+    status: e.status,
+    primaryMethod: e.primary_method,
+    origin,
+    films,
+    oxygen: e.oxygen.map((o) => {
+      const startedAt = new Date(o.s);
+      const endedAt = o.e === null ? null : new Date(o.e);
+      return {
+        startedAt,
+        endedAt,
+        startDay: daysBetween(origin, startedAt),
+        endDay: endedAt ? Math.max(daysBetween(origin, endedAt), daysBetween(origin, startedAt)) : null,
+      };
+    }),
+    nextBooking: next ? { ...next, dayIndex: daysBetween(origin, next.scheduledAt) } : null,
+  };
+}
 
 /**
- * Loads the series of several episodes in five queries. The chosen measurement of a film is its
+ * Loads the series of several episodes in one statement. The chosen measurement of a film is its
  * signed-off current version if there is one, else the latest current one (current = not superseded).
  * Withdrawn films (deleted_at) are left out. Does no team check: callers scope the episode ids.
  */
@@ -88,90 +193,8 @@ export async function loadEpisodeSeries(trx: Trx, episodeIds: readonly string[])
   const out = new Map<string, EpisodeSeriesData>();
   if (episodeIds.length === 0) return out;
   const ids = [...new Set(episodeIds)];
-  const [episodes, films, measurements, oxygen, bookings] = await inTurn<[EpisodeFacts[], FilmFacts[], MeasurementFacts[], OxygenFacts[], BookingFacts[]]>(trx, [
-    () => trx("episodes").whereIn("id", ids).select("id", "team_id", "status", "primary_method", "presented_on") as Promise<EpisodeFacts[]>,
-    () => trx("films")
-      .whereIn("episode_id", ids)
-      .whereNull("deleted_at")
-      .select("id", "episode_id", "taken_at", "created_at", "projection", "position") as Promise<FilmFacts[]>,
-    () => trx
-      .select("id", "film_id", "light_percent", "rhea_percent", "collins_percent", "hilum_cm", "apex_cm", "signed_off_at")
-      .from(
-        trx("measurements")
-          .distinctOn("film_id")
-          .whereIn("episode_id", ids)
-          .whereNull("superseded_at")
-          .select("id", "film_id", "light_percent", "rhea_percent", "collins_percent", "hilum_cm", "apex_cm", "signed_off_at")
-          .orderBy("film_id")
-          .orderByRaw("(signed_off_at is not null) desc, signed_off_at desc nulls last, created_at desc, version desc")
-          .as("m"),
-      ),
-    () => trx("oxygen_periods").whereIn("episode_id", ids).select("episode_id", "started_at", "ended_at").orderBy("started_at") as Promise<OxygenFacts[]>,
-    // The next film is due at the earliest booked repeat film, or at a missed one nobody has rebooked yet
-    // (so that a missed film makes the episode overdue).
-    () => trx("bookings as b")
-      .whereIn("b.episode_id", ids)
-      .where("b.kind", "repeat-film")
-      .whereRaw(
-        "(b.state = 'booked' or (b.state = 'missed' and not exists (select 1 from bookings l where l.episode_id = b.episode_id and l.created_at > b.updated_at and l.state in ('booked', 'attended'))))",
-      )
-      .select("b.id", "b.episode_id", "b.scheduled_at")
-      .orderBy("b.scheduled_at") as Promise<BookingFacts[]>,
-  ]);
-  const byFilm = new Map(measurements.map((m) => [m.film_id, m]));
-  // Grouped once (a worklist holds hundreds of episodes and thousands of films; filtering the whole
-  // list for each episode was most of its time).
-  const group = <T extends { episode_id: string }>(rows: readonly T[]) => {
-    const m = new Map<string, T[]>();
-    for (const r of rows) {
-      const list = m.get(r.episode_id);
-      if (list) list.push(r);
-      else m.set(r.episode_id, [r]);
-    }
-    return m;
-  };
-  const filmsOf = group(films);
-  const oxygenOf = group(oxygen);
-  const bookingsOf = group(bookings); // in scheduled_at order, as queried
-  for (const e of episodes) {
-    const own = (filmsOf.get(e.id) ?? [])
-      .map((f) => ({ f, at: f.taken_at ?? f.created_at }))
-      .sort((a, b) => a.at.getTime() - b.at.getTime() || (a.f.id < b.f.id ? -1 : 1));
-    const origin = own[0]?.at ?? new Date(`${e.presented_on}T00:00:00Z`);
-    const points: FilmPoint[] = own.map(({ f, at }) => {
-      const m = byFilm.get(f.id);
-      return {
-        filmId: f.id,
-        takenAt: at,
-        dayIndex: daysBetween(origin, at),
-        projection: f.projection,
-        position: f.position,
-        measurementId: m?.id ?? null,
-        signedOff: !!m?.signed_off_at,
-        light: pct(m?.light_percent),
-        rhea: pct(m?.rhea_percent),
-        collins: pct(m?.collins_percent),
-        hilumCm: cm(m?.hilum_cm),
-        apexCm: cm(m?.apex_cm),
-      };
-    });
-    const next = bookingsOf.get(e.id)?.[0];
-    out.set(e.id, {
-      episodeId: e.id,
-      teamId: e.team_id,
-      status: e.status,
-      primaryMethod: e.primary_method,
-      origin,
-      films: points,
-      oxygen: (oxygenOf.get(e.id) ?? []).map((o) => ({
-        startedAt: o.started_at,
-        endedAt: o.ended_at,
-        startDay: daysBetween(origin, o.started_at),
-        endDay: o.ended_at ? Math.max(daysBetween(origin, o.ended_at), daysBetween(origin, o.started_at)) : null,
-      })),
-      nextBooking: next ? { id: next.id, scheduledAt: next.scheduled_at, dayIndex: daysBetween(origin, next.scheduled_at) } : null,
-    });
-  }
+  const { rows } = await trx.raw<{ rows: SeriesRow[] }>(EPISODE_SERIES_SQL, seriesBindings(ids));
+  for (const e of rows) out.set(e.id, seriesFromRow(e));
   return out;
 }
 

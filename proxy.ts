@@ -4,6 +4,7 @@
 // and server action checks the session and the permission itself.
 import { NextResponse, type NextFetchEvent, type NextRequest } from "next/server";
 import { withAuth, type NextRequestWithAuth } from "next-auth/middleware";
+import { decode } from "@/lib/auth/jwt";
 
 /** Pages anyone may open without a session. */
 const PUBLIC_PAGES = ["/sign-in", "/forbidden"];
@@ -49,7 +50,7 @@ function withCsp(req: NextRequest): NextResponse {
   return res;
 }
 
-const guarded = withAuth((req: NextRequestWithAuth) => withCsp(req), { pages: { signIn: "/sign-in" } });
+const guarded = withAuth((req: NextRequestWithAuth) => withCsp(req), { pages: { signIn: "/sign-in" }, jwt: { decode } });
 
 export default async function proxy(req: NextRequest, event: NextFetchEvent) {
   const path = req.nextUrl.pathname;

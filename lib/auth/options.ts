@@ -6,6 +6,7 @@ import { z } from "zod";
 import { db } from "@/db/knex";
 import { findUserByEmail, recentFailures, recordSignInAttempt, verifyPassword } from "@/db/users";
 import type { Role } from "./permissions";
+import { decode, encode } from "./jwt";
 
 export const SIGN_IN_LIMITS = { windowMinutes: 15, maxFailuresPerEmail: 5, maxFailuresPerIp: 30 } as const;
 export const SESSION_MAX_AGE_SECONDS = 8 * 60 * 60;
@@ -22,6 +23,7 @@ function clientIp(headers: Record<string, string | string[] | undefined> | undef
 export const authOptions: NextAuthOptions = {
   secret: process.env.NEXTAUTH_SECRET,
   session: { strategy: "jwt", maxAge: SESSION_MAX_AGE_SECONDS },
+  jwt: { encode, decode }, // next-auth's token format, with the derived key kept (lib/auth/jwt.ts)
   pages: { signIn: "/sign-in" },
   useSecureCookies: process.env.NODE_ENV === "production" && (process.env.NEXTAUTH_URL ?? "").startsWith("https://"),
   providers: [

@@ -18,7 +18,8 @@
  * Run: node --conditions=react-server --import tsx bench/queues.ts
  *   needs DATABASE_URL of a PostgreSQL where it may create a database (bench/run.sh starts one).
  *   BENCH_RUNS (default 60), BENCH_EPISODES (default 100000), BENCH_KEEP_DB=1 keeps the database,
- *   BENCH_EXPLAIN=1 prints the plans of the slowest statements.
+ *   BENCH_EXPLAIN=1 prints the plans of the slowest statements, BENCH_REUSE_DB=1 measures again on a database
+ *   an earlier run kept (BENCH_KEEP_DB=1) instead of loading a new one.
  * Prints its figures; writes bench/results/queues.json.
  */
 import { mkdirSync, writeFileSync } from "node:fs";
@@ -58,6 +59,19 @@ async function createDatabase(baseUrl: string): Promise<string> {
   await admin.query(`create database ${DB_NAME}`);
   await admin.end();
   return withDatabase(baseUrl, DB_NAME);
+}
+
+async function hasLoadedDatabase(baseUrl: string): Promise<boolean> {
+  const client = new pg.Client({ connectionString: withDatabase(baseUrl, DB_NAME) });
+  try {
+    await client.connect();
+    const { rows } = await client.query<{ n: number }>("select count(*)::int as n from episodes");
+    return (rows[0]?.n ?? 0) > 0;
+  } catch {
+    return false;
+  } finally {
+    await client.end().catch(() => undefined);
+  }
 }
 
 async function dropDatabase(baseUrl: string): Promise<void> {
@@ -156,13 +170,15 @@ interface Measured {
 async function main(): Promise<void> {
   const baseUrl = process.env.DATABASE_URL;
   if (!baseUrl) throw new Error("DATABASE_URL is not set (bench/run.sh starts a private PostgreSQL)");
-  const url = await createDatabase(baseUrl);
+  const reuse = process.env.BENCH_REUSE_DB === "1" && (await hasLoadedDatabase(baseUrl));
+  const url = reuse ? withDatabase(baseUrl, DB_NAME) : await createDatabase(baseUrl);
   process.env.DATABASE_URL = url; // anything that reaches for db() gets the throw-away database
   const k = knexFactory({ client: "pg", connection: url, pool: { min: 0, max: 10 }, migrations: { directory: join(process.cwd(), "migrations"), loadExtensions: [".ts"] } });
   const floorClient = new pg.Client({ connectionString: url });
   try {
     await k.migrate.latest();
-    await load(k);
+    if (reuse) console.log(`measuring again on the database ${DB_NAME} kept by an earlier run`);
+    else await load(k);
     const [{ n: measurementCount } = { n: 0 }] = (await k.raw<{ rows: { n: number }[] }>("select count(*)::int as n from measurements")).rows;
     const [{ n: episodeCount } = { n: 0 }] = (await k.raw<{ rows: { n: number }[] }>("select count(*)::int as n from episodes")).rows;
 

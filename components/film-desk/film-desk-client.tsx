@@ -15,6 +15,7 @@ import { CaliperGuide, type CaliperState } from "./guide";
 import { caliperKey, historyReducer, initHistory, nextCaliper, type DeskSnapshot } from "./history";
 import { fitView, zoomAt, ZOOM, type Size, type View } from "./view";
 import { IDENTITY_WINDOW, isIdentity, type WindowLevel } from "./window-level";
+import { loadFilmImage } from "./film-image";
 
 const loadStage = () => import("./film-stage");
 // In the browser, start fetching the konva stage as soon as this module runs (during hydration),
@@ -67,6 +68,8 @@ const pct = (v: number | null) => (v === null ? "—" : `${v.toFixed(1)} %`);
 const diff = (a: number | null, b: number | null) => (a === null || b === null ? "—" : `${a - b >= 0 ? "+" : ""}${(a - b).toFixed(1)}`);
 
 export function FilmDeskClient({ film, side, user, initial }: Props) {
+  // Fetch and decode the film while the stage's code is still on its way (a no-op after the first call).
+  if (typeof window !== "undefined") void loadFilmImage(film.imageUrl).catch(() => undefined);
   const [measurements, setMeasurements] = useState<FilmMeasurements>(initial);
   const own: ReaderChain | undefined = measurements.readers.find((r) => r.reader.id === user.id);
   const others = measurements.readers.filter((r) => r.reader.id !== user.id);

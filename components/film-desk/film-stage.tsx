@@ -7,6 +7,7 @@ import type Konva from "konva";
 import { Circle, Group, Image as KImage, Label, Layer, Line, Stage, Tag, Text } from "react-konva";
 import { caliperNames, type CaliperName, type CaliperSet, type Point, type Segment } from "@/measure";
 import { CALIPER_COLOURS, type DeskMode, type SelectedEnd } from "./desk-types";
+import { loadFilmImage } from "./film-image";
 import type { DeskSnapshot } from "./history";
 import { clampToImage, toImage, zoomAt, ZOOM, type Size, type View } from "./view";
 import { applyLut, buildLut, dragWindow, greyFromRgba, isIdentity, type WindowLevel } from "./window-level";
@@ -40,23 +41,22 @@ const MIN_DRAG_SCREEN_PX = 4;
 const HANDLE_RADIUS = 6;
 
 function useFilmImage(url: string, onState: (s: "loading" | "ready" | "error") => void) {
-  const [img, setImg] = useState<HTMLImageElement | null>(null);
+  const [img, setImg] = useState<ImageBitmap | null>(null);
   const onStateRef = useRef(onState);
   onStateRef.current = onState;
   useEffect(() => {
     let live = true;
-    const el = new window.Image();
-    el.decoding = "async";
     onStateRef.current("loading");
-    el.onload = () => {
-      if (!live) return;
-      setImg(el);
-      onStateRef.current("ready");
-    };
-    el.onerror = () => {
-      if (live) onStateRef.current("error");
-    };
-    el.src = url;
+    loadFilmImage(url).then(
+      (el) => {
+        if (!live) return;
+        setImg(el);
+        onStateRef.current("ready");
+      },
+      () => {
+        if (live) onStateRef.current("error");
+      },
+    );
     return () => {
       live = false;
     };
@@ -77,7 +77,7 @@ interface GreyCanvas {
 }
 
 /** A canvas of the film at (width, height) and its grey levels, made once. */
-function greyCanvas(img: HTMLImageElement, width: number, height: number): GreyCanvas | null {
+function greyCanvas(img: ImageBitmap, width: number, height: number): GreyCanvas | null {
   const canvas = document.createElement("canvas");
   canvas.width = width;
   canvas.height = height;
@@ -102,7 +102,7 @@ function paint(g: GreyCanvas, wl: WindowLevel): number {
  * 1,024 px a side is re-coloured (at most once per animation frame: more pixels than the desk shows
  * when the film is fitted); the full-resolution canvas follows once the drag pauses.
  */
-function useWindowedSource(img: HTMLImageElement | null, wl: WindowLevel) {
+function useWindowedSource(img: ImageBitmap | null, wl: WindowLevel) {
   const full = useRef<GreyCanvas | null>(null);
   const preview = useRef<GreyCanvas | null>(null);
   const frame = useRef<number | null>(null);
@@ -125,8 +125,8 @@ function useWindowedSource(img: HTMLImageElement | null, wl: WindowLevel) {
       setState((s) => (s.source === img ? s : { source: img, version: s.version + 1 }));
       return;
     }
-    const w = img.naturalWidth;
-    const h = img.naturalHeight;
+    const w = img.width;
+    const h = img.height;
     const k = Math.min(1, PREVIEW_MAX_SIDE / Math.max(w, h));
     const runFull = () => {
       timer.current = null;

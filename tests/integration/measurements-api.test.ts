@@ -5,6 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { anonymous, signIn, type Client } from "../support/http";
 import { makeEpisode, makePatient, makeTeam, TEST_PASSWORD, type TestTeam } from "../support/fixtures";
 import { closeTestDb, testDb } from "../support/db";
+import { makeFilmAt } from "../support/followup";
 
 interface Seg {
   a: { x: number; y: number };
@@ -50,34 +51,9 @@ let nurse: Client;
 let outsider: Client;
 let episodeId: string;
 
-/** A film row straight into the table (the upload pipeline has its own tests): 1,300 x 1,500 px. */
-async function makeFilm(t: TestTeam, epId: string, calibration: unknown, extra: Record<string, unknown> = {}): Promise<string> {
-  const id = randomUUID();
-  await testDb()("films").insert({
-    id,
-    episode_id: epId,
-    team_id: t.id,
-    kind: "dicom",
-    original_key: `films/${id}/original`,
-    display_key: `films/${id}/display`,
-    thumb_key: `films/${id}/thumb`,
-    content_type: "application/dicom",
-    filename: "test.dcm",
-    size_bytes: 1000,
-    sha256: randomUUID().replace(/-/g, "").padEnd(64, "0"),
-    taken_at: "2026-11-02T09:00:00Z",
-    projection: "PA",
-    position: "erect",
-    rows: 1500,
-    columns: 1300,
-    display_width: 1300,
-    display_height: 1500,
-    display_scale: 1,
-    calibration: calibration === null ? null : JSON.stringify(calibration),
-    ...extra,
-  });
-  return id;
-}
+/** A film row straight into the table (the upload pipeline has its own tests): 1,300 x 1,500 px with the given calibration. */
+const makeFilm = (t: TestTeam, epId: string, calibration: unknown, extra: Record<string, unknown> = {}): Promise<string> =>
+  makeFilmAt(t, epId, new Date("2026-11-02T09:00:00Z"), { calibration: calibration === null ? null : JSON.stringify(calibration), ...extra });
 
 const detector = (rowMm: number, columnMm: number) => ({ film: { rowMm, columnMm, source: "imager-pixel-spacing" }, patient: null, correctionUnknown: false, notes: [] });
 

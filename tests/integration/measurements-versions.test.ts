@@ -1,10 +1,10 @@
 // Versions of a measurement over HTTP: a change is a new version (the old one stays readable with who
 // and when), a save based on an old version is refused with 409 and writes nothing, sign-off locks a
 // version, and a second reader keeps a chain of their own.
-import { randomUUID } from "node:crypto";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { signIn, type Client } from "../support/http";
 import { makeEpisode, makePatient, makeTeam, TEST_PASSWORD, type TestTeam } from "../support/fixtures";
+import { makeFilmAt, PITCH_MM } from "../support/followup";
 import { closeTestDb, testDb } from "../support/db";
 
 interface Seg {
@@ -29,7 +29,7 @@ interface ErrorBody {
   error: { code: string; message: string; fields?: Record<string, string>; details?: Record<string, unknown> };
 }
 
-const PITCH = 0.2; // mm a pixel, typical DR detector (from memory)
+const PITCH = PITCH_MM; // mm a pixel, typical DR detector (from memory)
 const H: Seg = { a: { x: 100, y: 800 }, b: { x: 600, y: 800 } }; // 500 px = 100 mm
 const lung = (x: number): Seg => ({ a: { x, y: 800 }, b: { x: 600, y: 800 } });
 
@@ -38,32 +38,8 @@ let registrar: Client;
 let consultant: Client;
 let episodeId: string;
 
-async function makeFilm(): Promise<string> {
-  const id = randomUUID();
-  await testDb()("films").insert({
-    id,
-    episode_id: episodeId,
-    team_id: team.id,
-    kind: "dicom",
-    original_key: `films/${id}/original`,
-    display_key: `films/${id}/display`,
-    thumb_key: `films/${id}/thumb`,
-    content_type: "application/dicom",
-    filename: "test.dcm",
-    size_bytes: 1000,
-    sha256: randomUUID().replace(/-/g, "").padEnd(64, "0"),
-    taken_at: "2026-11-03T09:00:00Z",
-    projection: "PA",
-    position: "erect",
-    rows: 1500,
-    columns: 1300,
-    display_width: 1300,
-    display_height: 1500,
-    display_scale: 1,
-    calibration: JSON.stringify({ film: { rowMm: PITCH, columnMm: PITCH, source: "imager-pixel-spacing" }, patient: null, correctionUnknown: false, notes: [] }),
-  });
-  return id;
-}
+/** A film row straight into the table, calibrated at PITCH mm (tests/support/followup.ts uses the same pitch). */
+const makeFilm = (): Promise<string> => makeFilmAt(team, episodeId, new Date("2026-11-03T09:00:00Z"));
 
 async function json<T>(res: Response): Promise<T> {
   return (await res.json()) as T;

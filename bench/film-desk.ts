@@ -9,7 +9,8 @@
  *     floor of the same page receiving the same pointer moves with no button pressed;
  *  3. how often the film layer was redrawn during those drags (the design says never);
  *  4. window/level repaint times (the quick copy while dragging, and the full-resolution pass).
- * Targets: drag p95 frame interval <= 2 x the floor's p95; no film-layer redraw during a caliper drag.
+ * Targets: first caliper placeable in under 1.5 s; drag p95 frame interval <= 2 x the floor's p95 (60 fps
+ * where the floor has it); no film-layer redraw during a caliper drag.
  *
  * Run by bench/run.sh (which starts the app and exports RIMWATCH_BENCH_URL), or by hand against a
  * running app: RIMWATCH_TEST_URL=http://127.0.0.1:3000 node --import tsx bench/film-desk.ts
@@ -25,6 +26,7 @@ import { DEMO_PASSWORD } from "../db/demo/users";
 const SIZE = 3000;
 const RUNS = Number(process.env.BENCH_RUNS ?? 5);
 const MOVES = 120;
+const READY_TARGET_MS = 1500;
 const base = process.env.RIMWATCH_BENCH_URL ?? process.env.RIMWATCH_TEST_URL;
 if (!base) throw new Error("Set RIMWATCH_BENCH_URL (or RIMWATCH_TEST_URL) to the running app");
 process.env.RIMWATCH_TEST_URL = base;
@@ -228,14 +230,17 @@ async function main() {
     console.log(`  of which: page scripts run by ${ms(median(desk.map((d) => d.scripts)))}, film image received by ${ms(median(desk.map((d) => d.image)))} (medians)`);
     console.log(`floor, the display image alone: median ${ms(floorMed)} (runs ${floor.map((x) => x.toFixed(0)).join(", ")} ms)`);
     console.log(`floor, a clinic page without a film (patient list) to load: median ${ms(median(plain))}`);
-    console.log(`ratio first-caliper-placeable / image alone: ${(readyMed / floorMed).toFixed(2)}; / plain clinic page: ${(readyMed / median(plain)).toFixed(2)}`);
+    console.log(
+      `ratio first-caliper-placeable / image alone: ${(readyMed / floorMed).toFixed(2)}; / plain clinic page: ${(readyMed / median(plain)).toFixed(2)}; ` +
+        `median ${ms(readyMed)} (target < ${READY_TARGET_MS} ms) ${readyMed < READY_TARGET_MS ? "OK" : "OVER TARGET"}`,
+    );
     console.log(`frame intervals, hover (floor): p50 ${ms(median(hover))}, p95 ${ms(hoverP95)}, max ${ms(Math.max(...hover))}, ${hover.length} frames`);
     console.log(`frame intervals, drawing a caliper: p50 ${ms(median(drawing))}, p95 ${ms(drawP95)}, max ${ms(Math.max(...drawing))}, ${drawing.length} frames`);
     console.log(`frame intervals, dragging a caliper end: p50 ${ms(median(endDrag))}, p95 ${ms(endP95)}, max ${ms(Math.max(...endDrag))}, ${endDrag.length} frames`);
     console.log(`ratio drag p95 / hover p95: drawing ${(drawP95 / hoverP95).toFixed(2)}, end ${(endP95 / hoverP95).toFixed(2)} (target <= 2)`);
     console.log(`film layer redraws during the two caliper drags: ${redraws} (target 0)`);
     console.log(`window/level repaint: quick copy p50 ${ms(median(wl.preview))} over ${wl.preview.length} repaints; full ${SIZE} x ${SIZE} pass p50 ${ms(median(wl.full))} over ${wl.full.length}`);
-    const over = drawP95 / hoverP95 > 2 || endP95 / hoverP95 > 2 || redraws > 0;
+    const over = drawP95 / hoverP95 > 2 || endP95 / hoverP95 > 2 || redraws > 0 || readyMed >= READY_TARGET_MS;
     if (over) console.log("OVER TARGET");
 
     const dir = join(process.cwd(), "bench", "results");

@@ -5,6 +5,8 @@ import "server-only";
 import { AppError, notFound } from "@/lib/errors";
 import { clinicDate } from "@/lib/clinic-time";
 import { ADVICE_RANK, assessDrain, lungStateFrom, type DrainAssessment, type FilmFigures, type LungState } from "@/lib/drains/assess";
+import type { DrainSettings } from "@/lib/drains/settings";
+import { readDrainSettings } from "@/lib/settings-registry";
 import type { Bubbling, Drainage, DrainInsert, DrainObservationInput, DrainUpdate, Indication, Technique } from "@/lib/validation/drains";
 import { writeAudit } from "./audit";
 import { getEpisode } from "./episodes";
@@ -102,17 +104,18 @@ async function latestMeasuredFilmSince(trx: Trx, episodeId: string, since: Date)
   return { takenAt: row.taken_at, lightPercent: row.light_percent, hilumCm: row.hilum_cm, apexCm: row.apex_cm, aidCm: row.aid_cm };
 }
 
-async function lungStateFor(trx: Trx, episode: { id: string; status: string }, drain: DrainRow): Promise<LungState> {
+async function lungStateFor(trx: Trx, settings: DrainSettings, episode: { id: string; status: string }, drain: DrainRow): Promise<LungState> {
   const latest = await latestMeasuredFilmSince(trx, episode.id, drain.inserted_at);
-  return lungStateFrom({ episodeResolved: episode.status !== "active", latest });
+  return lungStateFrom({ episodeResolved: episode.status !== "active", latest }, settings);
 }
 
-async function assess(trx: Trx, episode: { id: string; status: string }, drain: DrainRow, observations: DrainObservationRow[]): Promise<DrainAssessment> {
-  const lung = await lungStateFor(trx, episode, drain);
+async function assess(trx: Trx, settings: DrainSettings, episode: { id: string; status: string }, drain: DrainRow, observations: DrainObservationRow[]): Promise<DrainAssessment> {
+  const lung = await lungStateFor(trx, settings, episode, drain);
   return assessDrain(
     { insertedAt: drain.inserted_at, removedAt: drain.removed_at, sizeFr: drain.size_fr, indication: drain.indication },
     observations.map((o) => ({ observedAt: o.observed_at, swinging: o.swinging, bubbling: o.bubbling })),
     lung,
+    { specialistAfterHours: settings.specialistAfterHours, surgicalOpinionAfterHours: settings.surgicalOpinionAfterHours },
   );
 }
 
@@ -121,10 +124,11 @@ export async function listEpisodeDrains(trx: Trx, teamId: string, episodeId: str
   const episode = await getEpisode(trx, teamId, episodeId);
   const drains = (await trx("drains").select(DRAIN_COLUMNS).where({ episode_id: episodeId, team_id: teamId }).orderBy("inserted_at", "desc")) as DrainRow[];
   const observations = await observationsOf(trx, drains.map((d) => d.id));
+  const settings = await readDrainSettings(trx);
   const out: DrainWithObservations[] = [];
   for (const d of drains) {
     const own = observations.filter((o) => o.drain_id === d.id);
-    out.push({ ...d, observations: own, assessment: await assess(trx, episode, d, own) });
+    out.push({ ...d, observations: own, assessment: await assess(trx, settings, episode, d, own) });
   }
   return out;
 }
@@ -236,9 +240,10 @@ export async function reconcileAirLeakFlag(trx: Trx, actor: Actor | null, episod
   if (!episode) throw notFound("That episode");
   const drains = (await trx("drains").select(DRAIN_COLUMNS).where({ episode_id: episodeId }).whereNull("removed_at")) as DrainRow[];
   const observations = await observationsOf(trx, drains.map((d) => d.id));
+  const settings = await readDrainSettings(trx);
   const findings: LeakFinding[] = [];
   for (const d of drains) {
-    const assessment = await assess(trx, episode, d, observations.filter((o) => o.drain_id === d.id));
+    const assessment = await assess(trx, settings, episode, d, observations.filter((o) => o.drain_id === d.id));
     if (assessment.airLeak.persistent) findings.push({ drain: d, assessment });
   }
   findings.sort((a, b) => (b.assessment.airLeak.bubblingForHours ?? 0) - (a.assessment.airLeak.bubblingForHours ?? 0));

@@ -10,6 +10,7 @@ import type { Trx } from "@/db/knex";
 import type { Actor } from "@/db/types";
 import { diaryGroup, type DiarySettings } from "@/lib/mail/settings";
 import { travelGroup, type TravelSettings } from "@/lib/travel/settings";
+import { drainGroup, type DrainSettings } from "@/lib/drains/settings";
 
 export interface SettingField {
   label: string;
@@ -125,7 +126,7 @@ export async function getProtocols(trx: Trx): Promise<FollowUpProtocol[]> {
 }
 
 /** Every settings group, in the order the settings screen shows them. Add new groups here. */
-export const SETTING_GROUPS: readonly SettingGroup[] = [deviationGroup, protocolGroup, diaryGroup, travelGroup];
+export const SETTING_GROUPS: readonly SettingGroup[] = [deviationGroup, protocolGroup, diaryGroup, travelGroup, drainGroup];
 
 export function findGroup(key: string): SettingGroup {
   const g = SETTING_GROUPS.find((x) => x.key === key);
@@ -157,6 +158,7 @@ export function groupValues<S extends z.ZodObject>(group: SettingGroup<S>, store
 export const readDeviationSettings = (trx: Trx): Promise<DeviationSettings> => readGroup(trx, deviationGroup);
 export const readDiarySettings = (trx: Trx): Promise<DiarySettings> => readGroup(trx, diaryGroup);
 export const readTravelSettings = (trx: Trx): Promise<TravelSettings> => readGroup(trx, travelGroup);
+export const readDrainSettings = (trx: Trx): Promise<DrainSettings> => readGroup(trx, drainGroup);
 
 export interface GroupView {
   key: string;

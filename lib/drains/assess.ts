@@ -40,16 +40,19 @@ export interface FilmFigures {
   aidCm: number | null;
 }
 
-/**
- * When Rimwatch counts the lung as re-expanded on a measured film. No published figure: a starting
- * point (suggestion), shown on screen beside the prompt.
- */
-export const reExpansionRule = {
-  belowCm: 0.5,
-  belowLightPercent: 5,
-  text: "re-expanded when the latest film since insertion shows every measured interpleural distance under 0.5 cm (or, uncalibrated, a Light index under 5 %), or the episode is marked resolved",
-  source: "suggestion: no published figure; set by the team",
-} as const;
+/** When Rimwatch counts the lung as re-expanded on a measured film (a drains setting; defaults in lib/drains/settings.ts). */
+export interface ReExpansionThresholds {
+  reExpandedBelowCm: number;
+  reExpandedBelowLightPercent: number;
+}
+
+/** The rule in words, with the thresholds in force, as the drains section shows it. */
+export function reExpansionText(t: ReExpansionThresholds): string {
+  return `re-expanded when the latest film since insertion shows every measured interpleural distance under ${t.reExpandedBelowCm} cm (or, uncalibrated, a Light index under ${t.reExpandedBelowLightPercent} %), or the episode is marked resolved`;
+}
+
+/** No published figure: a starting point (suggestion), shown on screen beside the prompt and set in the settings. */
+export const reExpansionSource = "suggestion: no published figure; set by the team";
 
 export interface LungState {
   reExpanded: boolean | null;
@@ -57,19 +60,19 @@ export interface LungState {
 }
 
 /** Re-expansion from the episode's state and the latest measured film since the drain went in. */
-export function lungStateFrom(input: { episodeResolved: boolean; latest: FilmFigures | null }): LungState {
+export function lungStateFrom(input: { episodeResolved: boolean; latest: FilmFigures | null }, t: ReExpansionThresholds): LungState {
   if (input.episodeResolved) return { reExpanded: true, reason: "The episode is marked resolved." };
   const f = input.latest;
   if (f === null) return { reExpanded: null, reason: "No measured film since the drain went in." };
   const cms = [f.hilumCm, f.apexCm, f.aidCm].filter((v): v is number => v !== null && Number.isFinite(v));
   if (cms.length > 0) {
     const largest = Math.max(...cms);
-    return largest < reExpansionRule.belowCm
+    return largest < t.reExpandedBelowCm
       ? { reExpanded: true, reason: `Latest film: largest interpleural distance ${largest.toFixed(1)} cm.` }
       : { reExpanded: false, reason: `Latest film: interpleural distance up to ${largest.toFixed(1)} cm.` };
   }
   if (f.lightPercent !== null && Number.isFinite(f.lightPercent)) {
-    return f.lightPercent < reExpansionRule.belowLightPercent
+    return f.lightPercent < t.reExpandedBelowLightPercent
       ? { reExpanded: true, reason: `Latest film: Light index ${f.lightPercent.toFixed(0)} %.` }
       : { reExpanded: false, reason: `Latest film: Light index ${f.lightPercent.toFixed(0)} %.` };
   }

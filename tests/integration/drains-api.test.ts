@@ -15,6 +15,7 @@ let registrar: Client;
 let consultant: Client;
 let nurse: Client;
 let outsider: Client;
+let admin: Client;
 
 interface DrainJson {
   id: string;
@@ -62,6 +63,19 @@ async function drainsOf(episodeId: string, c: Client = registrar): Promise<Drain
   return ((await res.json()) as { drains: DrainJson[] }).drains;
 }
 
+/** A film taken at `takenAt`, measured through the API: hilum caliper 110 px x 0.2 mm = 2.2 cm. */
+async function measuredFilmWithGap(episodeId: string, takenAt: Date): Promise<void> {
+  const filmId = randomUUID();
+  await testDb()("films").insert({
+    id: filmId, episode_id: episodeId, team_id: team.id, kind: "dicom", original_key: `films/${filmId}/original`, display_key: `films/${filmId}/display`,
+    thumb_key: `films/${filmId}/thumb`, content_type: "application/dicom", filename: "check.dcm", size_bytes: 1000, sha256: filmId.replace(/-/g, "").padEnd(64, "0"),
+    taken_at: takenAt.toISOString(), projection: "PA", position: "erect", rows: 1500, columns: 1300, display_width: 1300, display_height: 1500,
+    display_scale: 1, calibration: JSON.stringify(calibrationFromDicom({ imagerPixelSpacingMm: [0.2, 0.2] })),
+  });
+  const m = await registrar.send("POST", `/api/films/${filmId}/measurements`, { plane: "film", calipers: { hilum: { a: { x: 210, y: 805 }, b: { x: 100, y: 805 } } } });
+  expect(m.status, await m.clone().text()).toBe(201);
+}
+
 const leakFlags = (episodeId: string) => testDb()("flags").where({ episode_id: episodeId, rule: "persistent-air-leak" }).orderBy("raised_at").select<{ id: string; state: string; figures: Record<string, unknown>; reason: string }[]>("id", "state", "figures", "reason");
 const count = async (table: string, where: Record<string, unknown>) => Number((await testDb()(table).where(where).count<{ c: string }[]>({ c: "*" }))[0]?.c ?? 0);
 
@@ -72,6 +86,7 @@ beforeAll(async () => {
   consultant = await signIn(team.users.consultant.email, TEST_PASSWORD);
   nurse = await signIn(team.users.nurse.email, TEST_PASSWORD);
   outsider = await signIn(other.users.registrar.email, TEST_PASSWORD);
+  admin = await signIn(team.users.admin.email, TEST_PASSWORD);
 });
 afterAll(closeTestDb);
 
@@ -158,16 +173,7 @@ describe("no swing with the lung not re-expanded", () => {
     const episodeId = await newEpisode();
     const t0 = new Date(Date.now() - 10 * HOUR);
     const id = await insert(episodeId, t0);
-    // a film taken after insertion, measured through the API: hilum caliper 110 px x 0.2 mm = 2.2 cm
-    const filmId = randomUUID();
-    await testDb()("films").insert({
-      id: filmId, episode_id: episodeId, team_id: team.id, kind: "dicom", original_key: `films/${filmId}/original`, display_key: `films/${filmId}/display`,
-      thumb_key: `films/${filmId}/thumb`, content_type: "application/dicom", filename: "check.dcm", size_bytes: 1000, sha256: filmId.replace(/-/g, "").padEnd(64, "0"),
-      taken_at: new Date(t0.getTime() + 2 * HOUR).toISOString(), projection: "PA", position: "erect", rows: 1500, columns: 1300, display_width: 1300, display_height: 1500,
-      display_scale: 1, calibration: JSON.stringify(calibrationFromDicom({ imagerPixelSpacingMm: [0.2, 0.2] })),
-    });
-    const m = await registrar.send("POST", `/api/films/${filmId}/measurements`, { plane: "film", calipers: { hilum: { a: { x: 210, y: 805 }, b: { x: 100, y: 805 } } } });
-    expect(m.status, await m.clone().text()).toBe(201);
+    await measuredFilmWithGap(episodeId, new Date(t0.getTime() + 2 * HOUR));
 
     expect((await observe(id, new Date(t0.getTime() + 3 * HOUR), "none", true)).status).toBe(201);
     expect((await drainsOf(episodeId))[0]?.assessment.check.prompt).toBe(false);
@@ -232,5 +238,45 @@ describe("roles and team scope", () => {
     expect(await count("drain_observations", { drain_id: id })).toBe(0);
     expect(await count("drains", { episode_id: episodeId })).toBe(1);
     expect((await testDb()("drains").where({ id }).first<{ removed_at: Date | null }>("removed_at"))?.removed_at).toBeNull();
+  });
+});
+
+// The drain settings are shared by every team (as all settings are): this file is the only one that
+// reads them, and it puts the defaults back at the end.
+describe("the drain settings", () => {
+  const defaults = { specialistAfterHours: 48, surgicalOpinionAfterHours: 72, reExpandedBelowCm: 0.5, reExpandedBelowLightPercent: 5 };
+  const put = (values: Record<string, unknown>) => admin.send("PUT", "/api/settings", { key: "drainRules", values });
+
+  it("refuses a surgical threshold before the specialist one, with a field message, and changes nothing", async () => {
+    const stored = async () => JSON.stringify((await testDb()("settings").where({ key: "drainRules" }).first<{ value: unknown } | undefined>("value"))?.value ?? null);
+    const before = await stored();
+    const res = await put({ ...defaults, specialistAfterHours: 96 });
+    expect(res.status).toBe(400);
+    const body = (await res.json()) as { error: { fields: Record<string, string> } };
+    expect(body.error.fields.surgicalOpinionAfterHours).toMatch(/not before/);
+    expect(await stored()).toBe(before);
+    expect((await registrar.send("PUT", "/api/settings", { key: "drainRules", values: defaults })).status).toBe(403);
+  });
+
+  it("applies the team's thresholds to the air leak flag and to the lung's re-expansion", async () => {
+    try {
+      expect((await put({ specialistAfterHours: 24, surgicalOpinionAfterHours: 96, reExpandedBelowCm: 2.5, reExpandedBelowLightPercent: 5 })).status).toBe(200);
+      const episodeId = await newEpisode();
+      const t0 = new Date(Date.now() - 40 * HOUR);
+      const id = await insert(episodeId, t0);
+      await measuredFilmWithGap(episodeId, new Date(t0.getTime() + 2 * HOUR));
+      expect((await observe(id, new Date(t0.getTime() + 30 * HOUR), "continuous", false)).status).toBe(201);
+      // 30 h of bubbling is past a 24 h threshold (the default 48 h would not flag it yet)
+      const flags = await leakFlags(episodeId);
+      expect(flags).toHaveLength(1);
+      expect((flags[0]?.figures as { advice: string }).advice).toBe("respiratory-specialist");
+      const d = (await drainsOf(episodeId))[0];
+      expect(d?.assessment.airLeak.persistent).toBe(true);
+      // a 2.2 cm gap counts as re-expanded under a 2.5 cm threshold, so no swing raises no check prompt
+      expect(d?.assessment.lung.reExpanded).toBe(true);
+      expect(d?.assessment.check.prompt).toBe(false);
+    } finally {
+      expect((await put(defaults)).status).toBe(200);
+    }
   });
 });

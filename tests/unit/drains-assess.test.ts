@@ -1,5 +1,9 @@
 import { describe, expect, it } from "vitest";
-import { assessDrain, isBubbling, lungStateFrom, reExpansionRule, type ObservationFacts } from "../../lib/drains/assess";
+import { assessDrain, isBubbling, lungStateFrom as lungStateWith, reExpansionText, type ObservationFacts } from "../../lib/drains/assess";
+
+// The drains settings' defaults (lib/drains/settings.ts): a Rimwatch suggestion, no published figure.
+const DEFAULT_RE_EXPANSION = { reExpandedBelowCm: 0.5, reExpandedBelowLightPercent: 5 };
+const lungStateFrom = (input: Parameters<typeof lungStateWith>[0]) => lungStateWith(input, DEFAULT_RE_EXPANSION);
 
 const inserted = new Date("2026-11-02T08:00:00Z");
 const at = (hours: number) => new Date(inserted.getTime() + hours * 3_600_000);
@@ -86,7 +90,7 @@ describe("no swing with the lung not re-expanded", () => {
 describe("lung state from the latest film", () => {
   it("uses cm distances first, the Light index when uncalibrated, and says unknown without a film", () => {
     // thresholds: Rimwatch suggestion (no published figure), 0.5 cm and 5 % Light
-    expect(reExpansionRule.belowCm).toBe(0.5);
+    expect(reExpansionText(DEFAULT_RE_EXPANSION)).toContain("under 0.5 cm");
     expect(lungStateFrom({ episodeResolved: false, latest: null }).reExpanded).toBeNull();
     expect(lungStateFrom({ episodeResolved: true, latest: null }).reExpanded).toBe(true);
     expect(lungStateFrom({ episodeResolved: false, latest: { takenAt: at(5), lightPercent: 3, hilumCm: null, apexCm: null, aidCm: null } }).reExpanded).toBe(true);

@@ -3,13 +3,13 @@
 import { db } from "@/db/knex";
 import { listEpisodeDrains } from "@/db/drains";
 import { can } from "@/lib/auth/permissions";
-import { airLeakDefaults } from "@/measure";
-import { reExpansionRule } from "@/lib/drains/assess";
+import { reExpansionSource, reExpansionText } from "@/lib/drains/assess";
+import { readDrainSettings } from "@/lib/settings-registry";
 import { DrainsPanel, type DrainView } from "./drains-client";
 import type { SectionProps } from "./types";
 
 export async function DrainsSection({ episode, user }: SectionProps) {
-  const drains = await listEpisodeDrains(db(), user.teamId, episode.id);
+  const [drains, settings] = await Promise.all([listEpisodeDrains(db(), user.teamId, episode.id), readDrainSettings(db())]);
   const views: DrainView[] = drains.map((d) => ({
     id: d.id,
     insertedAt: d.inserted_at.toISOString(),
@@ -47,8 +47,8 @@ export async function DrainsSection({ episode, user }: SectionProps) {
       episodeId={episode.id}
       canWrite={can(user.role, "drain.write")}
       drains={views}
-      thresholds={{ specialistAfterHours: airLeakDefaults.specialistAfterHours, surgicalOpinionAfterHours: airLeakDefaults.surgicalOpinionAfterHours }}
-      reExpansion={{ text: reExpansionRule.text, source: reExpansionRule.source }}
+      thresholds={{ specialistAfterHours: settings.specialistAfterHours, surgicalOpinionAfterHours: settings.surgicalOpinionAfterHours }}
+      reExpansion={{ text: reExpansionText(settings), source: reExpansionSource }}
     />
   );
 }

@@ -226,9 +226,14 @@ export interface Worklist {
   defaultLocation: string;
   defaultTime: string;
   needing: WorklistEpisode[];
+  /** Set when the team has more active episodes than one call checks for proposals (the oldest are checked). */
+  needingChecked: { checked: number; active: number } | null;
   coming: WorklistBooking[];
   missed: WorklistBooking[];
 }
+
+/** How many active episodes one worklist call checks for proposals, oldest first. */
+export const WORKLIST_ACTIVE_LIMIT = 300;
 
 const DEFAULT_TIME = "09:30";
 
@@ -365,7 +370,7 @@ export async function getWorklist(trx: Trx, teamId: string, now: Date): Promise<
       .where({ "e.team_id": teamId, "e.status": "active" })
       .select("e.id", "e.side", "e.management", "e.presented_on", "p.id as patient_id", "p.given_name", "p.family_name", "p.hospital_number", "p.email", "p.email_consent")
       .orderBy("e.presented_on")
-      .limit(300) as Promise<(PatientFacts & { id: string; side: string; management: string; presented_on: string; patient_id: string })[]>,
+      .limit(WORKLIST_ACTIVE_LIMIT) as Promise<(PatientFacts & { id: string; side: string; management: string; presented_on: string; patient_id: string })[]>,
     bookingsWithPatients(trx, teamId, (q) => void q.where("b.state", "booked").where("b.scheduled_at", ">=", startOfToday), "asc", 200),
     bookingsWithPatients(
       trx,
@@ -391,6 +396,11 @@ export async function getWorklist(trx: Trx, teamId: string, now: Date): Promise<
     ),
   ]);
   const proposals = await proposalsFor(trx, teamId, active.map((e) => e.id), now);
+  // A team past the limit is told so, rather than missing the newest episodes without a word.
+  const activeCount =
+    active.length < WORKLIST_ACTIVE_LIMIT
+      ? active.length
+      : Number((await trx("episodes").where({ team_id: teamId, status: "active" }).count<{ n: string }[]>({ n: "*" }))[0]?.n ?? 0);
   const messages = await latestMessageByBooking(trx, teamId, [...coming, ...missed].map((b) => b.id));
   const toItem = (b: BookingJoined) => toWorklistBooking(b, messages, startOfToday);
   return {
@@ -409,6 +419,7 @@ export async function getWorklist(trx: Trx, teamId: string, now: Date): Promise<
       }))
       .filter((e) => e.proposals.length > 0)
       .sort((a, b) => ((a.proposals[0]?.proposedOn ?? "") < (b.proposals[0]?.proposedOn ?? "") ? -1 : 1)),
+    needingChecked: activeCount > active.length ? { checked: active.length, active: activeCount } : null,
     coming: coming.map(toItem),
     missed: missed.map(toItem),
   };

@@ -19,6 +19,7 @@ interface Proposal { key: string; kind: string; source: string; flagId: string |
 interface Worklist {
   today: string;
   needing: { episodeId: string; proposals: Proposal[] }[];
+  needingChecked: { checked: number; active: number } | null;
   coming: { id: string; episodeId: string; version: number; lastMessage: { template: string; status: string } | null }[];
   missed: { id: string; episodeId: string; state: string; unmarked: boolean }[];
 }
@@ -61,6 +62,21 @@ describe("the worklist and booking a proposal", () => {
     expect((await c.registrar.get("/api/bookings")).status).toBe(200);
     const theirs = await worklist(c.outsider);
     expect(theirs.needing.find((e) => e.episodeId === episodeId)).toBeUndefined();
+    expect(list.needingChecked).toBeNull();
+  });
+
+  it("says so when a team has more active episodes than one worklist checks", async () => {
+    const many = await makeTeam("bookings-many");
+    const patients = await testDb()("patients")
+      .insert(Array.from({ length: 302 }, (_, i) => ({ team_id: many.id, hospital_number: `M${Date.now().toString(36).toUpperCase()}${i}`, family_name: "Manyfold", given_name: `Case${i}`, date_of_birth: "1980-01-01", sex: "unknown" })))
+      .returning<{ id: string }[]>("id");
+    await testDb()("episodes").insert(
+      patients.map((p, i) => ({ patient_id: p.id, team_id: many.id, side: "left", presented_on: addDays(today, -(i % 40) - 1), aetiology: "primary-spontaneous", management: "observation", status: i === 301 ? "closed" : "active" })),
+    );
+    const nurse = await signIn(many.users.nurse.email, TEST_PASSWORD);
+    const list = await worklist(nurse);
+    // 301 active (one of the 302 is closed); the list checks the 300 that presented first and says so
+    expect(list.needingChecked).toEqual({ checked: 300, active: 301 });
   });
 
   it("refuses bad input with field messages and writes nothing", async () => {

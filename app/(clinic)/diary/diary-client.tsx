@@ -87,6 +87,12 @@ export function DiaryClient({ initial, canWrite }: { initial: Worklist; canWrite
       {q.isError ? <p role="alert" className="font-bold text-rust-ink">The diary could not be refreshed: {q.error.message}</p> : null}
 
       <Card title={<>Needing a booking <span className="figures text-base font-normal text-ink-soft">({list.needing.length})</span></>}>
+        {list.needingChecked ? (
+          <p role="alert" className="mb-3 text-sm font-bold text-rust-ink" data-testid="needing-checked">
+            The team has {list.needingChecked.active} active episodes; this list checks the {list.needingChecked.checked} that presented first. Close or resolve
+            finished episodes so that none is left unchecked.
+          </p>
+        ) : null}
         {list.needing.length === 0 ? (
           <Empty>Every active episode has its next film booked, or needs none yet.</Empty>
         ) : (

@@ -204,7 +204,7 @@ async function main(): Promise<void> {
       "follow-up diary (getWorklist)": (teamId) => getWorklist(k, teamId, now),
       "deviation board (listFlags + sparklinesFor)": async (teamId) => {
         const page = await listFlags(k, teamId, { state: "live", now, sort: "raised", dir: "desc", page: 1, pageSize: 25 });
-        return sparklinesFor(k, page.rows.map((r) => r.episode_id), now);
+        return sparklinesFor(k, teamId, page.rows.map((r) => r.episode_id), now);
       },
     };
 

@@ -266,9 +266,9 @@ export async function proposalsFor(trx: Trx, teamId: string, episodeIds: readonl
       .select("id", "status", "management", "presented_on", "discharged_on", "follow_up_protocol") as Promise<
       { id: string; status: ProposalInputs["episode"]["status"]; management: ProposalInputs["episode"]["management"]; presented_on: string; discharged_on: string | null; follow_up_protocol: string | null }[]
     >,
-    getProtocols(trx),
-    readDiarySettings(trx),
-    readDeviationSettings(trx),
+    getProtocols(trx, teamId),
+    readDiarySettings(trx, teamId),
+    readDeviationSettings(trx, teamId),
     trx("procedures").whereIn("episode_id", episodeIds).where("kind", "needle-aspiration").groupBy("episode_id").select("episode_id", trx.raw("max(performed_at) as at")) as Promise<{ episode_id: string; at: Date }[]>,
     trx("drains")
       .where("team_id", teamId)

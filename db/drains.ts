@@ -124,7 +124,7 @@ export async function listEpisodeDrains(trx: Trx, teamId: string, episodeId: str
   const episode = await getEpisode(trx, teamId, episodeId);
   const drains = (await trx("drains").select(DRAIN_COLUMNS).where({ episode_id: episodeId, team_id: teamId }).orderBy("inserted_at", "desc")) as DrainRow[];
   const observations = await observationsOf(trx, drains.map((d) => d.id));
-  const settings = await readDrainSettings(trx);
+  const settings = await readDrainSettings(trx, teamId);
   const out: DrainWithObservations[] = [];
   for (const d of drains) {
     const own = observations.filter((o) => o.drain_id === d.id);
@@ -240,7 +240,7 @@ export async function reconcileAirLeakFlag(trx: Trx, actor: Actor | null, episod
   if (!episode) throw notFound("That episode");
   const drains = (await trx("drains").select(DRAIN_COLUMNS).where({ episode_id: episodeId }).whereNull("removed_at")) as DrainRow[];
   const observations = await observationsOf(trx, drains.map((d) => d.id));
-  const settings = await readDrainSettings(trx);
+  const settings = await readDrainSettings(trx, episode.team_id);
   const findings: LeakFinding[] = [];
   for (const d of drains) {
     const assessment = await assess(trx, settings, episode, d, observations.filter((o) => o.drain_id === d.id));

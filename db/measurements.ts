@@ -143,8 +143,8 @@ export function computeEstimate(
 }
 
 /** The thresholds in force (admin settings over the published defaults), for the server and the film desk alike. */
-export async function estimateSettings(trx: Trx): Promise<EstimateSettings> {
-  const s = await readDeviationSettings(trx);
+export async function estimateSettings(trx: Trx, teamId: string): Promise<EstimateSettings> {
+  const s = await readDeviationSettings(trx, teamId);
   return { disagreementPoints: s.disagreementPoints, largeBtsHilumCm: s.largeBtsHilumCm, largeAccpApexCm: s.largeAccpApexCm };
 }
 
@@ -197,7 +197,7 @@ export async function createMeasurement(trx: Trx, actor: Actor, filmId: string, 
   }
   const calipers = toCaliperSet(input.calipers);
   checkOnFilm(film, calipers);
-  const est = computeEstimate(film, calipers, input.plane, await estimateSettings(trx));
+  const est = computeEstimate(film, calipers, input.plane, await estimateSettings(trx, actor.teamId));
   const id = randomUUID();
   try {
     await trx("measurements").insert({
@@ -260,7 +260,7 @@ export async function updateMeasurement(trx: Trx, actor: Actor, id: string, inpu
   if (film.deleted_at) throw new AppError("conflict", "This film was withdrawn; its measurements can no longer change.");
   const calipers = toCaliperSet(input.calipers);
   checkOnFilm(film, calipers);
-  const est = computeEstimate(film, calipers, input.plane, await estimateSettings(trx));
+  const est = computeEstimate(film, calipers, input.plane, await estimateSettings(trx, actor.teamId));
 
   const superseded = await trx("measurements").where({ id: current.id }).whereNull("superseded_at").update({ superseded_at: trx.fn.now() });
   if (superseded !== 1) throw staleConflict(undefined);

@@ -120,8 +120,8 @@ export const protocolGroup: SettingGroup<typeof protocolSchema> = {
 };
 
 /** The follow-up protocols with the days in force (for the episode form and the diary's proposals). */
-export async function getProtocols(trx: Trx): Promise<FollowUpProtocol[]> {
-  const days = await readGroup(trx, protocolGroup);
+export async function getProtocols(trx: Trx, teamId: string): Promise<FollowUpProtocol[]> {
+  const days = await readGroup(trx, teamId, protocolGroup);
   return PROTOCOLS.map((p) => ({ key: p.key, label: p.words.replace("{d}", String(days[p.field])), repeatFilmAfterDays: days[p.field], anchor: p.anchor, source: p.source }));
 }
 
@@ -138,8 +138,8 @@ export function findGroup(key: string): SettingGroup {
  * The values in force for one group: what an admin stored, field by field, over the defaults.
  * A stored field that no longer passes the schema (e.g. after a range changed) falls back to its default.
  */
-export async function readGroup<S extends z.ZodObject>(trx: Trx, group: SettingGroup<S>): Promise<z.output<S>> {
-  return groupValues(group, await getSetting<unknown>(trx, group.key, null));
+export async function readGroup<S extends z.ZodObject>(trx: Trx, teamId: string, group: SettingGroup<S>): Promise<z.output<S>> {
+  return groupValues(group, await getSetting<unknown>(trx, teamId, group.key, null));
 }
 
 /** readGroup's merge, for a caller that read the stored value itself (in a statement of its own). */
@@ -155,10 +155,10 @@ export function groupValues<S extends z.ZodObject>(group: SettingGroup<S>, store
   return group.schema.parse(merged);
 }
 
-export const readDeviationSettings = (trx: Trx): Promise<DeviationSettings> => readGroup(trx, deviationGroup);
-export const readDiarySettings = (trx: Trx): Promise<DiarySettings> => readGroup(trx, diaryGroup);
-export const readTravelSettings = (trx: Trx): Promise<TravelSettings> => readGroup(trx, travelGroup);
-export const readDrainSettings = (trx: Trx): Promise<DrainSettings> => readGroup(trx, drainGroup);
+export const readDeviationSettings = (trx: Trx, teamId: string): Promise<DeviationSettings> => readGroup(trx, teamId, deviationGroup);
+export const readDiarySettings = (trx: Trx, teamId: string): Promise<DiarySettings> => readGroup(trx, teamId, diaryGroup);
+export const readTravelSettings = (trx: Trx, teamId: string): Promise<TravelSettings> => readGroup(trx, teamId, travelGroup);
+export const readDrainSettings = (trx: Trx, teamId: string): Promise<DrainSettings> => readGroup(trx, teamId, drainGroup);
 
 export interface GroupView {
   key: string;
@@ -169,13 +169,13 @@ export interface GroupView {
   fields: Record<string, SettingField>;
 }
 
-export async function listSettingGroups(trx: Trx): Promise<GroupView[]> {
+export async function listSettingGroups(trx: Trx, teamId: string): Promise<GroupView[]> {
   return Promise.all(
     SETTING_GROUPS.map(async (g) => ({
       key: g.key,
       title: g.title,
       description: g.description,
-      values: await readGroup<z.ZodObject>(trx, g),
+      values: await readGroup<z.ZodObject>(trx, teamId, g),
       defaults: g.defaults,
       fields: g.fields,
     })),

@@ -31,11 +31,11 @@ export interface EvaluationResult {
 export async function evaluateEpisodeFlags(trx: Trx, episodeId: string, now: Date, actor: Actor | null): Promise<EvaluationResult> {
   // Serialise evaluations of one episode (a measurement save and the nightly sweep may meet): the row lock
   // keeps two transactions from raising the same rule at once.
-  const locked: unknown = await trx("episodes").where({ id: episodeId }).forUpdate().first("id");
+  const locked = await trx("episodes").where({ id: episodeId }).forUpdate().first<{ team_id: string } | undefined>("team_id");
   if (!locked) throw notFound("That episode");
   const result: EvaluationResult = { episodeId, raised: [], updated: [], superseded: [], unchanged: 0, alreadyDecided: 0, skipped: null };
 
-  const settings = await readDeviationSettings(trx);
+  const settings = await readDeviationSettings(trx, locked.team_id);
   const seriesMap = await loadEpisodeSeries(trx, [episodeId]);
   const live = await liveFlagsOfEpisode(trx, episodeId);
   const resolved = await resolvedFlagsOfEpisode(trx, episodeId);

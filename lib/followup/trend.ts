@@ -23,9 +23,9 @@ const PROCEDURE_EVENTS: Record<string, { kind: TrendEventKind; label: string }> 
 };
 
 // The chart's reads beside the series, in one statement (a round trip costs more than these lookups):
-// the deviation settings as stored, the episode's procedures and drains, and its live flags.
+// the team's deviation settings as stored, the episode's procedures and drains, and its live flags.
 const CHART_EXTRAS_SQL = compactSql(`
-    select (select st.value from settings st where st.key = ?) as settings,
+    select (select st.value from settings st where st.key = ? and (st.team_id = ? or st.team_id is null) order by st.team_id nulls last limit 1) as settings,
            coalesce((select json_agg(json_build_object('kind', p.kind, 'at', extract(epoch from p.performed_at) * 1000, 'volume', p.volume_ml) order by p.performed_at)
                        from procedures p where p.episode_id = ?), '[]'::json) as procedures,
            coalesce((select json_agg(json_build_object('in', extract(epoch from d.inserted_at) * 1000, 'out', extract(epoch from d.removed_at) * 1000, 'fr', d.size_fr) order by d.inserted_at)
@@ -45,7 +45,7 @@ export async function getEpisodeTrend(trx: Trx, teamId: string, episodeId: strin
   // Two statements side by side on the pool (one after the other inside a transaction).
   const [series, chart] = await inTurn<[{ rows: SeriesRow[] }, { rows: ChartExtrasRow[] }]>(trx, [
     async () => await trx.raw<{ rows: SeriesRow[] }>(EPISODE_SERIES_SQL, seriesBindings([episodeId])),
-    async () => await trx.raw<{ rows: ChartExtrasRow[] }>(CHART_EXTRAS_SQL, [deviationGroup.key, episodeId, episodeId, teamId, episodeId, teamId, [...LIVE_STATES]]),
+    async () => await trx.raw<{ rows: ChartExtrasRow[] }>(CHART_EXTRAS_SQL, [deviationGroup.key, teamId, episodeId, episodeId, teamId, episodeId, teamId, [...LIVE_STATES]]),
   ]);
   const row = series.rows[0];
   const extras = chart.rows[0];
@@ -76,11 +76,11 @@ export async function getEpisodeTrend(trx: Trx, teamId: string, episodeId: strin
   };
 }
 
-/** Sparklines for several episodes at once (one load for a page of the board). */
-export async function sparklinesFor(trx: Trx, episodeIds: readonly string[], now: Date): Promise<Map<string, Sparkline | null>> {
-  const settings = await readDeviationSettings(trx);
+/** Sparklines for several episodes of one team at once (one load for a page of the board). */
+export async function sparklinesFor(trx: Trx, teamId: string, episodeIds: readonly string[], now: Date): Promise<Map<string, Sparkline | null>> {
+  const settings = await readDeviationSettings(trx, teamId);
   const seriesMap = await loadEpisodeSeries(trx, episodeIds);
   const out = new Map<string, Sparkline | null>();
-  for (const [id, data] of seriesMap) out.set(id, sparklineFromSeries(data, settings, now));
+  for (const [id, data] of seriesMap) if (data.teamId === teamId) out.set(id, sparklineFromSeries(data, settings, now));
   return out;
 }

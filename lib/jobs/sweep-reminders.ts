@@ -5,6 +5,7 @@ import "server-only";
 import { db } from "@/db/knex";
 import { untriedQueuedMessages } from "@/db/messages";
 import { recordBookingMessage } from "@/lib/mail/outbox";
+import { MAX_REMINDER_LEAD_HOURS } from "@/lib/mail/settings";
 import { readDiarySettings } from "@/lib/settings-registry";
 import { enqueueMail } from "./queue";
 import { dueReminders, type ReminderCandidate } from "./reminders";
@@ -20,21 +21,23 @@ export interface SweepResult {
 /** Untried queued messages older than this are queued again (their job may have been lost). */
 const LOST_JOB_MINUTES = 10;
 
+
 export async function sweepReminders(now: Date, opts: { enqueue?: (ids: readonly string[]) => Promise<boolean> } = {}): Promise<SweepResult> {
   const enqueue = opts.enqueue ?? ((ids: readonly string[]) => enqueueMail(ids));
   const k = db();
-  const { reminderLeadHours } = await readDiarySettings(k);
-  const until = new Date(now.getTime() + reminderLeadHours * 3_600_000);
+  // Each team's own lead time: candidates are read up to the longest lead any team may set,
+  // then each booking is judged with its team's setting.
   const rows = await k("bookings")
     .where({ state: "booked" })
     .where("scheduled_at", ">", now)
-    .where("scheduled_at", "<=", until)
-    .select<{ id: string; state: ReminderCandidate["state"]; scheduled_at: Date; updated_at: Date }[]>("id", "state", "scheduled_at", "updated_at");
-  const due = dueReminders(
-    rows.map((r) => ({ bookingId: r.id, state: r.state, scheduledAt: r.scheduled_at, confirmedAt: r.updated_at })),
-    now,
-    reminderLeadHours,
-  );
+    .where("scheduled_at", "<=", new Date(now.getTime() + MAX_REMINDER_LEAD_HOURS * 3_600_000))
+    .select<{ id: string; team_id: string; state: ReminderCandidate["state"]; scheduled_at: Date; updated_at: Date }[]>("id", "team_id", "state", "scheduled_at", "updated_at");
+  const due: ReturnType<typeof dueReminders> = [];
+  for (const teamId of new Set(rows.map((r) => r.team_id))) {
+    const { reminderLeadHours } = await readDiarySettings(k, teamId);
+    const own = rows.filter((r) => r.team_id === teamId);
+    due.push(...dueReminders(own.map((r) => ({ bookingId: r.id, state: r.state, scheduledAt: r.scheduled_at, confirmedAt: r.updated_at })), now, reminderLeadHours));
+  }
   const result: SweepResult = { due: due.length, queued: [], skipped: 0, alreadyRecorded: 0, requeued: 0 };
   for (const c of due) {
     const row = await k.transaction((trx) => recordBookingMessage(trx, null, c.bookingId, "booking-reminder", now));

@@ -24,7 +24,7 @@ const FILM_MINUTES = 30;
 
 async function prepare(trx: Trx, m: MessageRow, now: Date): Promise<Prepared> {
   if (!isTemplate(m.template)) return { skip: `Rimwatch has no message called “${String(m.template)}”.` };
-  const settings = await readDiarySettings(trx);
+  const settings = await readDiarySettings(trx, m.team_id);
   if (m.template === "flag-notice") {
     if (!m.flag_id) return { skip: "The notice has no flag." };
     type FlagFacts = { rule: string; state: string; episode_id: string; email: string | null; notify_on_flag: boolean | null; disabled_at: Date | null; hospital: string };

@@ -99,7 +99,7 @@ export async function recordBookingMessage(
 ): Promise<MessageRow | null> {
   const f = await loadBookingMailFacts(trx, bookingId);
   if (!f) return null;
-  const settings = await readDiarySettings(trx);
+  const settings = await readDiarySettings(trx, f.teamId);
   const decision = decideRecipient({ email: f.email, emailConsent: f.emailConsent, mailEnabled: settings.mailEnabled });
   const rendered = renderAppointment(template, appointmentData(f));
   const row = await recordMessage(trx, actorId, {
@@ -144,7 +144,7 @@ export async function queueFlagNotice(trx: Trx, flag: FlagForNotice): Promise<Me
     .whereNull("u.disabled_at")
     .first<{ id: string; email: string; hospital: string } | undefined>("u.id", "u.email", "t.hospital");
   if (!consultant) return null;
-  const settings = await readDiarySettings(trx);
+  const settings = await readDiarySettings(trx, flag.team_id);
   const decision = decideStaffRecipient(consultant.email, settings.mailEnabled);
   const rendered = renderFlagNotice({ ruleLabel: ruleLabel(flag.rule), episodeUrl: `${publicBaseUrl()}/episodes/${flag.episode_id}`, hospital: consultant.hospital });
   const row = await recordMessage(trx, null, {

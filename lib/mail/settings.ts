@@ -3,10 +3,13 @@
 import { z } from "zod";
 import type { SettingGroup } from "@/lib/settings-registry";
 
+/** The longest reminder lead time a team may set. */
+export const MAX_REMINDER_LEAD_HOURS = 336;
+
 const schema = z
   .object({
     mailEnabled: z.boolean({ message: "Switch e-mail on or off" }),
-    reminderLeadHours: z.number({ message: "Reminder lead time: enter a number" }).int("Reminder lead time: whole hours").min(1, "Reminder lead time: at least 1 hour").max(336, "Reminder lead time: at most 336 hours (14 days)"),
+    reminderLeadHours: z.number({ message: "Reminder lead time: enter a number" }).int("Reminder lead time: whole hours").min(1, "Reminder lead time: at least 1 hour").max(MAX_REMINDER_LEAD_HOURS, `Reminder lead time: at most ${MAX_REMINDER_LEAD_HOURS} hours (14 days)`),
     earlierFilmWithinDays: z.number({ message: "Earlier film: enter a number" }).int("Earlier film: whole days").min(0, "Earlier film: at least 0 days").max(14, "Earlier film: at most 14 days"),
   })
   .strict();

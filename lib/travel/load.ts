@@ -26,8 +26,8 @@ export async function getTravelFigures(trx: Trx, teamId: string, episodeId: stri
   const episode = await getEpisode(trx, teamId, episodeId);
   const [patient, settings, deviation, series] = await Promise.all([
     getPatient(trx, teamId, episode.patient_id),
-    readTravelSettings(trx),
-    readDeviationSettings(trx),
+    readTravelSettings(trx, teamId),
+    readDeviationSettings(trx, teamId),
     loadEpisodeSeries(trx, [episodeId]),
   ]);
   const data = series.get(episodeId);

@@ -241,8 +241,7 @@ describe("roles and team scope", () => {
   });
 });
 
-// The drain settings are shared by every team (as all settings are): this file is the only one that
-// reads them, and it puts the defaults back at the end.
+// The drain settings of this file's own team (settings are per team); the defaults go back at the end.
 describe("the drain settings", () => {
   const defaults = { specialistAfterHours: 48, surgicalOpinionAfterHours: 72, reExpandedBelowCm: 0.5, reExpandedBelowLightPercent: 5 };
   const put = (values: Record<string, unknown>) => admin.send("PUT", "/api/settings", { key: "drainRules", values });

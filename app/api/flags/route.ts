@@ -22,7 +22,7 @@ export const GET = apiRoute("flag.read", async ({ req, user }) => {
     page: q.page,
     pageSize: q.pageSize,
   });
-  const sparks = await sparklinesFor(db(), page.rows.map((r) => r.episode_id), now);
+  const sparks = await sparklinesFor(db(), user.teamId, page.rows.map((r) => r.episode_id), now);
   return {
     total: page.total,
     page: q.page,

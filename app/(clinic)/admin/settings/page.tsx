@@ -10,7 +10,7 @@ export const metadata: Metadata = { title: "Settings" };
 
 export default async function SettingsPage() {
   const user = await requireUser("settings.read");
-  const groups = await listSettingGroups(db());
+  const groups = await listSettingGroups(db(), user.teamId);
   return (
     <>
       <PageTitle

@@ -25,7 +25,7 @@ export default async function FilmDeskPage({ params }: { params: Promise<{ id: s
   const [episode, measurements, settings] = await Promise.all([
     getEpisode(db(), user.teamId, film.episodeId),
     listFilmMeasurements(db(), user.teamId, id),
-    estimateSettings(db()),
+    estimateSettings(db(), user.teamId),
   ]);
   const patient = await getPatient(db(), user.teamId, episode.patient_id);
   const view = [projectionLabel(film.projection), positionLabel(film.position)].filter(Boolean).join(", ");

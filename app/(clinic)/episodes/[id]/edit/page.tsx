@@ -21,7 +21,7 @@ export default async function EditEpisodePage({ params }: { params: Promise<{ id
     getPatient(db(), user.teamId, e.patient_id),
     listClinicians(db(), user.teamId, "consultant"),
     listClinicians(db(), user.teamId, "registrar"),
-    getProtocols(db()),
+    getProtocols(db(), user.teamId),
   ]);
   return (
     <>

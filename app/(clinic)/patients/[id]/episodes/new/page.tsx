@@ -19,7 +19,7 @@ export default async function NewEpisodePage({ params }: { params: Promise<{ id:
   const [consultants, registrars, protocols] = await Promise.all([
     listClinicians(db(), user.teamId, "consultant"),
     listClinicians(db(), user.teamId, "registrar"),
-    getProtocols(db()),
+    getProtocols(db(), user.teamId),
   ]);
   return (
     <>

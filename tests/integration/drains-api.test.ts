@@ -247,7 +247,7 @@ describe("the drain settings", () => {
   const put = (values: Record<string, unknown>) => admin.send("PUT", "/api/settings", { key: "drainRules", values });
 
   it("refuses a surgical threshold before the specialist one, with a field message, and changes nothing", async () => {
-    const stored = async () => JSON.stringify((await testDb()("settings").where({ key: "drainRules" }).first<{ value: unknown } | undefined>("value"))?.value ?? null);
+    const stored = async () => JSON.stringify((await testDb()("settings").where({ key: "drainRules", team_id: team.id }).first<{ value: unknown } | undefined>("value"))?.value ?? null);
     const before = await stored();
     const res = await put({ ...defaults, specialistAfterHours: 96 });
     expect(res.status).toBe(400);

@@ -175,16 +175,16 @@ describe("GET and PUT /api/settings", () => {
     expect(bad.status).toBe(400);
     expect(((await bad.json()) as { error: { fields: Record<string, string> } }).error.fields.ratePerDay).toMatch(/more than 0/);
     expect((await c.admin.send("PUT", "/api/settings", { key: "no-such-group", values })).status).toBe(404);
-    const before = Number((await testDb()("audit_log").where({ action: "settings.update", entity_id: "deviationRules" }).count<{ count: string }[]>({ count: "*" }))[0]?.count ?? 0);
+    const before = Number((await testDb()("audit_log").where({ action: "settings.update", entity_id: "deviationRules", team_id: team.id }).count<{ count: string }[]>({ count: "*" }))[0]?.count ?? 0);
     try {
       const ok = await c.admin.send("PUT", "/api/settings", { key: "deviationRules", values });
       expect(ok.status).toBe(200);
-      const [stored] = await testDb()("settings").where({ key: "deviationRules" }).select("value");
+      const [stored] = await testDb()("settings").where({ key: "deviationRules", team_id: team.id }).select("value");
       expect(stored?.value.overdueGraceDays).toBe(2);
-      const after = Number((await testDb()("audit_log").where({ action: "settings.update", entity_id: "deviationRules" }).count<{ count: string }[]>({ count: "*" }))[0]?.count ?? 0);
+      const after = Number((await testDb()("audit_log").where({ action: "settings.update", entity_id: "deviationRules", team_id: team.id }).count<{ count: string }[]>({ count: "*" }))[0]?.count ?? 0);
       expect(after).toBe(before + 1);
     } finally {
-      // put the shared settings back for the other tests
+      // put this team's settings back for the rest of this file
       await c.admin.send("PUT", "/api/settings", { key: "deviationRules", values: { ...defaultDeviationSettings } });
     }
   });

@@ -119,12 +119,15 @@ async function assess(trx: Trx, settings: DrainSettings, episode: { id: string; 
   );
 }
 
-/** The episode's drains, newest first, each with its observation log (oldest first) and the rules' verdicts. */
-export async function listEpisodeDrains(trx: Trx, teamId: string, episodeId: string): Promise<DrainWithObservations[]> {
+/**
+ * The episode's drains, newest first, each with its observation log (oldest first) and the rules'
+ * verdicts under the team's drain settings (read here unless the caller already has them).
+ */
+export async function listEpisodeDrains(trx: Trx, teamId: string, episodeId: string, known?: DrainSettings): Promise<DrainWithObservations[]> {
   const episode = await getEpisode(trx, teamId, episodeId);
   const drains = (await trx("drains").select(DRAIN_COLUMNS).where({ episode_id: episodeId, team_id: teamId }).orderBy("inserted_at", "desc")) as DrainRow[];
   const observations = await observationsOf(trx, drains.map((d) => d.id));
-  const settings = await readDrainSettings(trx, teamId);
+  const settings = known ?? (await readDrainSettings(trx, teamId));
   const out: DrainWithObservations[] = [];
   for (const d of drains) {
     const own = observations.filter((o) => o.drain_id === d.id);

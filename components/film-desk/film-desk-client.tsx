@@ -68,9 +68,11 @@ const pct = (v: number | null) => (v === null ? "—" : `${v.toFixed(1)} %`);
 const diff = (a: number | null, b: number | null) => (a === null || b === null ? "—" : `${a - b >= 0 ? "+" : ""}${(a - b).toFixed(1)}`);
 
 export function FilmDeskClient({ film, side, user, initial }: Props) {
-  // Fetch and decode the film while the stage's code is still on its way (a no-op after the first call).
-  if (typeof window !== "undefined") void loadFilmImage(film.imageUrl).catch(() => undefined);
   const [measurements, setMeasurements] = useState<FilmMeasurements>(initial);
+  // Fetch and decode the film as soon as the desk is on the page, while the stage's code is still on its way.
+  useEffect(() => {
+    loadFilmImage(film.imageUrl).catch(() => undefined); // the stage reports a failed load itself
+  }, [film.imageUrl]);
   const own: ReaderChain | undefined = measurements.readers.find((r) => r.reader.id === user.id);
   const others = measurements.readers.filter((r) => r.reader.id !== user.id);
 

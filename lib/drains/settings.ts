@@ -3,6 +3,7 @@
 import { z } from "zod";
 import { airLeakDefaults } from "@/measure";
 import type { SettingGroup } from "@/lib/settings-registry";
+import { reExpansionSource } from "./assess";
 
 const hours = (label: string) =>
   z.number({ message: `${label}: enter a number` }).int(`${label}: whole hours`).min(1, `${label}: at least 1 hour`).max(14 * 24, `${label}: at most 336 hours (14 days)`);
@@ -23,7 +24,6 @@ const schema = z
   });
 export type DrainSettings = z.output<typeof schema>;
 
-const SUGGESTION = "suggestion: no published figure; set by the team";
 
 export const drainGroup: SettingGroup<typeof schema> = {
   key: "drainRules",
@@ -40,7 +40,7 @@ export const drainGroup: SettingGroup<typeof schema> = {
   fields: {
     specialistAfterHours: { label: "Persistent air leak (respiratory specialist) after bubbling for", unit: "hours", step: 1, source: airLeakDefaults.source, basis: "from memory" },
     surgicalOpinionAfterHours: { label: "Thoracic surgical opinion after bubbling for", unit: "hours", step: 1, source: airLeakDefaults.source, basis: "from memory" },
-    reExpandedBelowCm: { label: "Lung re-expanded when every measured interpleural distance is under", unit: "cm", step: 0.1, source: SUGGESTION, basis: "suggestion" },
-    reExpandedBelowLightPercent: { label: "or, on an uncalibrated film, the Light index is under", unit: "%", step: 1, source: SUGGESTION, basis: "suggestion" },
+    reExpandedBelowCm: { label: "Lung re-expanded when every measured interpleural distance is under", unit: "cm", step: 0.1, source: reExpansionSource, basis: "suggestion" },
+    reExpandedBelowLightPercent: { label: "or, on an uncalibrated film, the Light index is under", unit: "%", step: 1, source: reExpansionSource, basis: "suggestion" },
   },
 };

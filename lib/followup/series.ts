@@ -88,10 +88,15 @@ export interface SeriesRow {
   next_booking: { id: string; s: number } | null;
 }
 
-// One statement for any number of episodes, instead of five: for one episode (the chart) the round
-// trips cost more than the lookups, and for hundreds (the diary's worklist) PostgreSQL joins films to
-// their chosen measurements by hash. Measured by bench/trend-api.ts and bench/queues.ts.
-const SERIES_SQL = `
+/** SQL text without its comments and indentation (the text travels to the server with every call). */
+export function compactSql(sql: string): string {
+  return sql.split("\n").map((l) => l.replace(/--.*$/, "").trim()).filter(Boolean).join(" ");
+}
+
+// The statement behind loadEpisodeSeries and the chart: one for any number of episodes, instead of
+// five. For one episode (the chart) the round trips cost more than the lookups; for hundreds (the
+// diary's worklist) PostgreSQL joins films to their chosen measurements by hash. Measured by bench/trend-api.ts and bench/queues.ts.
+export const EPISODE_SERIES_SQL = compactSql(`
 with chosen as materialized (
   -- the chosen measurement of each film: the signed-off current version if any, else the latest current one
   select distinct on (m.film_id) m.film_id, m.id, m.light_percent, m.rhea_percent, m.collins_percent, m.hilum_cm, m.apex_cm, m.signed_off_at
@@ -132,14 +137,9 @@ select e.id, e.team_id, e.status, e.primary_method, e.presented_on,
      order by b.scheduled_at
      limit 1
   ) nb on true
- where e.id = any(?::uuid[])`;
+ where e.id = any(?::uuid[])`);
 
-/** SQL text without its comments and indentation (the text travels to the server with every call). */
-export const compactSql = (sql: string): string =>
-  sql.split("\n").map((l) => l.replace(/--.*$/, "").trim()).filter(Boolean).join(" ");
-
-/** The statement behind loadEpisodeSeries, for a caller that adds its own columns; bind seriesBindings(ids). */
-export const EPISODE_SERIES_SQL = compactSql(SERIES_SQL);
+/** The bindings of EPISODE_SERIES_SQL (the ids appear in it four times). */
 export const seriesBindings = (ids: readonly string[]): string[][] => [[...ids], [...ids], [...ids], [...ids]];
 
 /** One row of EPISODE_SERIES_SQL as the rules and the chart take it. */

@@ -6,6 +6,7 @@ import { notFound } from "@/lib/errors";
 import type { FlagRow } from "@/db/flags";
 import { LIVE_STATES } from "@/lib/followup/rules";
 import { deviationGroup, groupValues, readDeviationSettings } from "@/lib/settings-registry";
+import { SETTING_VALUE_SQL, settingValueBindings } from "@/lib/settings";
 import type { DeviationSettings } from "@/measure";
 import { compactSql, daysBetween, EPISODE_SERIES_SQL, inTurn, loadEpisodeSeries, seriesBindings, seriesFromRow, type SeriesRow } from "./series";
 import { sparklineFromSeries, trendFromSeries, type Sparkline, type TrendData, type TrendEvent, type TrendEventKind } from "./course";
@@ -25,7 +26,7 @@ const PROCEDURE_EVENTS: Record<string, { kind: TrendEventKind; label: string }> 
 // The chart's reads beside the series, in one statement (a round trip costs more than these lookups):
 // the team's deviation settings as stored, the episode's procedures and drains, and its live flags.
 const CHART_EXTRAS_SQL = compactSql(`
-    select (select st.value from settings st where st.key = ? and (st.team_id = ? or st.team_id is null) order by st.team_id nulls last limit 1) as settings,
+    select ${SETTING_VALUE_SQL} as settings,
            coalesce((select json_agg(json_build_object('kind', p.kind, 'at', extract(epoch from p.performed_at) * 1000, 'volume', p.volume_ml) order by p.performed_at)
                        from procedures p where p.episode_id = ?), '[]'::json) as procedures,
            coalesce((select json_agg(json_build_object('in', extract(epoch from d.inserted_at) * 1000, 'out', extract(epoch from d.removed_at) * 1000, 'fr', d.size_fr) order by d.inserted_at)
@@ -45,7 +46,7 @@ export async function getEpisodeTrend(trx: Trx, teamId: string, episodeId: strin
   // Two statements side by side on the pool (one after the other inside a transaction).
   const [series, chart] = await inTurn<[{ rows: SeriesRow[] }, { rows: ChartExtrasRow[] }]>(trx, [
     async () => await trx.raw<{ rows: SeriesRow[] }>(EPISODE_SERIES_SQL, seriesBindings([episodeId])),
-    async () => await trx.raw<{ rows: ChartExtrasRow[] }>(CHART_EXTRAS_SQL, [deviationGroup.key, teamId, episodeId, episodeId, teamId, episodeId, teamId, [...LIVE_STATES]]),
+    async () => await trx.raw<{ rows: ChartExtrasRow[] }>(CHART_EXTRAS_SQL, [...settingValueBindings(teamId, deviationGroup.key), episodeId, episodeId, teamId, episodeId, teamId, [...LIVE_STATES]]),
   ]);
   const row = series.rows[0];
   const extras = chart.rows[0];

@@ -21,7 +21,6 @@ export interface SweepResult {
 /** Untried queued messages older than this are queued again (their job may have been lost). */
 const LOST_JOB_MINUTES = 10;
 
-
 export async function sweepReminders(now: Date, opts: { enqueue?: (ids: readonly string[]) => Promise<boolean> } = {}): Promise<SweepResult> {
   const enqueue = opts.enqueue ?? ((ids: readonly string[]) => enqueueMail(ids));
   const k = db();

@@ -4,7 +4,7 @@ import { db } from "@/db/knex";
 import { getEpisode, listOxygenPeriods, listProcedures, updateEpisode } from "@/db/episodes";
 import { episodeUpdate } from "@/lib/validation/episodes";
 import { uuid } from "@/lib/validation/common";
-import { reevaluateFlags } from "@/lib/measurement-flags";
+import { evaluateEpisodeFlags } from "@/lib/followup/evaluate";
 
 export const GET = apiRoute<{ id: string }>("episode.read", async ({ user, params }) => {
   const id = uuid.parse(params.id);
@@ -18,7 +18,7 @@ export const PATCH = apiRoute<{ id: string }>("episode.write", async ({ req, use
   const input = await parseJson(req, episodeUpdate);
   const episode = await db().transaction(async (trx) => {
     const row = await updateEpisode(trx, user, id, input);
-    await reevaluateFlags(user)(trx, id); // status and primary method change which rules apply
+    await evaluateEpisodeFlags(trx, id, new Date(), user); // status and primary method change which rules apply
     return row;
   });
   return { episode };

@@ -9,7 +9,8 @@ import { DrainsPanel, type DrainView } from "./drains-client";
 import type { SectionProps } from "./types";
 
 export async function DrainsSection({ episode, user }: SectionProps) {
-  const [drains, settings] = await Promise.all([listEpisodeDrains(db(), user.teamId, episode.id), readDrainSettings(db(), user.teamId)]);
+  const settings = await readDrainSettings(db(), user.teamId);
+  const drains = await listEpisodeDrains(db(), user.teamId, episode.id, settings);
   const views: DrainView[] = drains.map((d) => ({
     id: d.id,
     insertedAt: d.inserted_at.toISOString(),

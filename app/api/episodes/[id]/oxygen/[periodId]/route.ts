@@ -4,7 +4,7 @@ import { db } from "@/db/knex";
 import { stopOxygen } from "@/db/episodes";
 import { oxygenStop } from "@/lib/validation/episodes";
 import { uuid } from "@/lib/validation/common";
-import { reevaluateFlags } from "@/lib/measurement-flags";
+import { evaluateEpisodeFlags } from "@/lib/followup/evaluate";
 
 export const PATCH = apiRoute<{ id: string; periodId: string }>("episode.write", async ({ req, user, params }) => {
   const id = uuid.parse(params.id);
@@ -12,7 +12,7 @@ export const PATCH = apiRoute<{ id: string; periodId: string }>("episode.write",
   const { endedAt } = await parseJson(req, oxygenStop);
   const period = await db().transaction(async (trx) => {
     const row = await stopOxygen(trx, user, id, periodId, endedAt);
-    await reevaluateFlags(user)(trx, id); // oxygen changes the expected resorption
+    await evaluateEpisodeFlags(trx, id, new Date(), user); // oxygen changes the expected resorption
     return row;
   });
   return { period };
